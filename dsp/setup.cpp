@@ -4,6 +4,7 @@
 #include <cmath>
 #include <utility>
 
+#include "dsp/plan.hpp"
 #include "dsp/units.hpp"
 
 namespace hb {
@@ -274,6 +275,9 @@ std::vector<SetupProblem> validate(const Setup& s) {
             c.fail(lo_key, "the LO at " + format_number(lo) + " Hz falls inside the IF passband " +
                                format_number(p.if_hz - half_bw) + " to " + format_number(p.if_hz + half_bw) + " Hz");
     }
+    // Channel by channel (dsp/plan): only once the values themselves are sane.
+    if (c.problems.empty())
+        for (SetupProblem& q : check_plan_channels(s)) c.problems.push_back(std::move(q));
     return c.problems;
 }
 
