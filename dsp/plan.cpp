@@ -84,7 +84,7 @@ std::vector<SetupProblem> check_plan_channels(const Setup& s) {
                                " Hz converts to " + format_number(std::abs(lo - p.wanted_hz)) +
                                " Hz (difference) and " + format_number(lo + p.wanted_hz) +
                                " Hz (sum), neither inside the IF passband " + format_number(if_band.low_hz()) + " to " +
-                               format_number(if_band.high_hz()) + " Hz; expected plan.wanted_hz ± plan.if_hz"});
+                               format_number(if_band.high_hz()) + " Hz; expected an LO at plan.wanted_hz plus or minus plan.if_hz"});
             return out;
         }
         for (std::size_t k = 0; k < count; ++k) {
