@@ -13,6 +13,16 @@ int main(int argc, char** argv) {
     int rc = hb::cli::kExitOk;
     hb::cli::register_check(app, rc);
     hb::cli::register_plan(app, rc);
+    // "hetbench nosuch --help" must fail, not print the main help: callers probe commands that way.
+    if (argc > 1 && argv[1][0] != '-') {
+        bool known = false;
+        for (const CLI::App* sub : app.get_subcommands([](CLI::App*) { return true; }))
+            known = known || sub->get_name() == argv[1];
+        if (!known) {
+            std::cerr << "hetbench: error: unknown command '" << argv[1] << "' (see hetbench --help)\n";
+            return hb::cli::kExitError;
+        }
+    }
     try {
         app.parse(argc, argv);
         if (app.get_subcommands().empty()) {
