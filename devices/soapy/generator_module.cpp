@@ -52,6 +52,11 @@ bool is_our_key(const std::string& k) {
     return std::find(std::begin(kArgKeys), std::end(kArgKeys), k) != std::end(kArgKeys);
 }
 
+// Keys a SoapyRemote server leaves in the args it hands to the local driver: not ours, not errors.
+bool is_transport_key(const std::string& k) {
+    return k == "remote" || k.rfind("remote:", 0) == 0 || k.rfind("soapy_remote", 0) == 0;
+}
+
 std::string allowed_keys() {
     std::string s;
     for (const char* k : kArgKeys) s += (s.empty() ? "" : ", ") + std::string(k);
@@ -89,7 +94,7 @@ class GeneratorDevice : public SoapySDR::Device {
 public:
     explicit GeneratorDevice(const SoapySDR::Kwargs& args) : synth_(load(args), seed_of(args)) {
         for (const auto& [k, v] : args)
-            if (!is_our_key(k) && k != "driver")
+            if (!is_our_key(k) && k != "driver" && !is_transport_key(k))
                 throw std::runtime_error(std::string(kDriver) + ": unknown device arg \"" + k + "\"; allowed: " +
                                          allowed_keys());
         scenario_path_ = args.count("scenario") ? args.at("scenario") : "";
@@ -461,7 +466,7 @@ private:
 // SoapySDR caches devices by that result, so different scenarios or faults give different devices.
 SoapySDR::KwargsList find_generator(const SoapySDR::Kwargs& args) {
     for (const auto& [k, v] : args)
-        if (!is_our_key(k) && !(k == "driver" && v == kDriver)) return {};
+        if (!is_our_key(k) && !is_transport_key(k) && !(k == "driver" && v == kDriver)) return {};
     if (args.count("serial") && args.at("serial") != "hetbench-gen-0") return {};
     SoapySDR::Kwargs found = args;
     found.erase("driver");  // SoapySDR adds it back
