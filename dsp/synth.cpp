@@ -96,11 +96,10 @@ Phase phase_increment(double cycles_per_sample) {
     return static_cast<Phase>(std::llround(c * 0x1p63)) << 1;
 }
 double phase_radians(Phase p) { return static_cast<double>(static_cast<std::int64_t>(p)) * 0x1p-64 * kTwoPi; }
-float phase_cycles(Phase p) { return static_cast<float>(static_cast<double>(static_cast<std::int64_t>(p)) * 0x1p-64); }
 
 double amplitude_of(double dbfs) { return amplitude_from_db(dbfs); }
 
-constexpr std::size_t kLanes = 16;  // samples per row of the phasor kernel
+constexpr std::size_t kLanes = 128;  // samples per row of the phasor kernel (a loop the compiler vectorises)
 static_assert(kSynthBlock % kLanes == 0);
 
 // A complex exponential amplitude * exp(j(phase0 + inc*n)), evaluated in rows of kLanes samples: the row start
@@ -208,9 +207,8 @@ struct ModNoise {
 struct Carrier {
     ModKind kind = ModKind::fm;
     ModSource source = ModSource::tone;
-    float amplitude = 0.0f;
-    Phase phase0 = 0, inc = 0;  // the carrier
-    Phasor mod_tone;            // tone modulation: sin of it, scaled (see tune)
+    Phasor carrier;             // amplitude * exp(j carrier phase)
+    Phasor mod_tone;            // tone modulation: its imaginary part is the FM phase in cycles
     ModNoise mod_noise;
     float depth = 0.0f;         // AM index
     double cycles_per_unit = 0; // FM by noise: deviation / fs (cycles per sample per unit of x)
@@ -344,7 +342,7 @@ struct Synth::Impl {
     fftwf_plan plan = nullptr;
 
     // Scratch (one block each): accumulators and per-carrier work.
-    std::vector<float> acc_re, acc_im, tmp_re, tmp_im, mod;
+    std::vector<float> acc_re, acc_im, tmp_re, tmp_im, mod, mod_im;
 
     ~Impl() {
         std::lock_guard<std::mutex> lock(fftw_planner_mutex());
@@ -409,9 +407,7 @@ struct Synth::Impl {
         Carrier c;
         c.kind = kind;
         c.source = src;
-        c.amplitude = static_cast<float>(amp);
-        c.phase0 = random_phase(index, 2 * sub);
-        c.inc = phase_increment(off / fs);
+        c.carrier = Phasor(random_phase(index, 2 * sub), phase_increment(off / fs), amp);
         if (src == ModSource::tone) {
             // FM by a tone: phase = beta sin(wm t), beta = deviation / tone (radians) -> beta/2pi in cycles.
             c.mod_tone = Phasor(random_phase(index, 2 * sub + 1), phase_increment(tone_hz / fs),
@@ -576,9 +572,9 @@ struct Synth::Impl {
         float* __restrict x = mod.data();
         float* __restrict tr = tmp_re.data();
         float* __restrict ti = tmp_im.data();
-        if (c.kind == ModKind::am) {  // AM by noise: A (1 + m x) exp(j phi_c)
+        c.carrier.run<false>(n, tr, ti);  // A exp(j phi_c)
+        if (c.kind == ModKind::am) {      // AM by noise: A (1 + m x) exp(j phi_c)
             c.mod_noise.run(n, x);
-            Phasor(c.phase0, c.inc, c.amplitude).run<false>(n, tr, ti);
             for (std::size_t i = 0; i < kSynthBlock; ++i) {
                 const float e = 1.0f + c.depth * x[i];
                 re[i] += e * tr[i];
@@ -586,27 +582,24 @@ struct Synth::Impl {
             }
             return;
         }
-        // FM: phase in cycles = carrier + modulation, then cos/sin per sample.
+        // FM: A exp(j phi_c) exp(j 2 pi x), x = the modulation phase in cycles.
         if (c.source == ModSource::tone) {
-            c.mod_tone.run<false>(n, tr, ti);  // ti = (beta / 2 pi) sin(wm t)
+            c.mod_tone.run<false>(n, mod_im.data(), x);  // x = (beta / 2 pi) sin(wm t)
         } else {
             c.mod_noise.run(n, x);
-            double p = c.fm_phase;
+            double p = c.fm_phase;  // integrate the frequency; serial, in double, wrapped every sample
             for (std::size_t i = 0; i < kSynthBlock; ++i) {
                 p += c.cycles_per_unit * x[i];
                 p -= std::nearbyint(p);
-                ti[i] = static_cast<float>(p);
+                x[i] = static_cast<float>(p);
             }
             c.fm_phase = p;
         }
-        const Phase p0 = c.phase0 + c.inc * n;
-        const float a = c.amplitude;
         for (std::size_t i = 0; i < kSynthBlock; ++i) {
-            const float carrier = phase_cycles(p0 + c.inc * i);
             float co, si;
-            fm::cos_sin_cycles(carrier + ti[i], co, si);
-            re[i] += a * co;
-            im[i] += a * si;
+            fm::cos_sin_cycles(x[i], co, si);
+            re[i] += tr[i] * co - ti[i] * si;
+            im[i] += tr[i] * si + ti[i] * co;
         }
     }
 };
@@ -622,7 +615,7 @@ Synth::Synth(Scenario scenario, std::uint64_t seed) : impl_(std::make_unique<Imp
     impl_->seed = seed;
     impl_->floor_key = stream_key(seed, kTagFloor);
     impl_->band_key = stream_key(seed, kTagBandNoise);
-    for (auto* v : {&impl_->acc_re, &impl_->acc_im, &impl_->tmp_re, &impl_->tmp_im, &impl_->mod})
+    for (auto* v : {&impl_->acc_re, &impl_->acc_im, &impl_->tmp_re, &impl_->tmp_im, &impl_->mod, &impl_->mod_im})
         v->assign(kSynthBlock, 0.0f);
     tune(impl_->tuning);
 }
