@@ -233,8 +233,11 @@ std::optional<double> numeric_setting(SoapySDR::Device& dev, const std::string& 
 
 std::string load_generator_module() {
     static std::mutex m;
+    static bool done = false;  // once per process: module loading scans folders
     std::lock_guard<std::mutex> lock(m);
-    SoapySDR::loadModules();  // idempotent: what the environment provides
+    if (done) return "";
+    done = true;
+    SoapySDR::loadModules();  // what the environment provides (SOAPY_SDR_ROOT, SOAPY_SDR_PLUGIN_PATH)
     if (SoapySDR::Registry::listFindFunctions().count(kGeneratorDriver)) return "";
     std::vector<std::filesystem::path> candidates;
     const auto exe = executable_dir();

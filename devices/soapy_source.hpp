@@ -23,7 +23,8 @@ namespace hb {
 
 // Makes sure the hetbench-gen module is loaded: first whatever SoapySDR itself finds (SOAPY_SDR_ROOT,
 // SOAPY_SDR_PLUGIN_PATH), then, if the generator is not among them, the module beside the executable or in
-// the build tree. Returns the path loaded by this call ("" when SoapySDR already had it or none was found).
+// the build tree. Runs once per process; returns the path it loaded ("" when SoapySDR already had it, none was
+// found, or an earlier call did the work).
 std::string load_generator_module();
 
 // The SoapySDR argument string for a SourceSpec (kind device or generator); for the generator: driver,
