@@ -11,8 +11,7 @@ int main(int argc, char** argv) {
     app.require_subcommand(0, 1);
     app.fallthrough(false);
     int rc = hb::cli::kExitOk;
-    hb::cli::register_check(app, rc);
-    hb::cli::register_plan(app, rc);
+    hb::cli::register_all(app, rc);
     // "hetbench nosuch --help" must fail, not print the main help: callers probe commands that way.
     if (argc > 1 && argv[1][0] != '-') {
         bool known = false;

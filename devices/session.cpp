@@ -262,8 +262,16 @@ void read_source(TableReader& t, SourceSpec& s) {
     read_double(t, "level_offset_db", s.level_offset_db, "dB");
     read_bool(t, "swap_iq", s.swap_iq);
     read_bool(t, "loop", s.loop);
+    if (const toml::value* g = sub_table(t, "gains")) {
+        TableReader r{*g, t.key_path("gains"), t.problems, {}};
+        for (const auto& [name, v] : g->as_table()) {
+            NamedGain ng{name, 0.0};
+            if (read_double(r, name, ng.db, "dB")) s.gains.push_back(ng);
+        }
+        std::sort(s.gains.begin(), s.gains.end(), [](const auto& a, const auto& b) { return a.name < b.name; });
+    }
     t.finish(join_keys({"kind", "path", "args", "scenario", "format", "frequency_hz", "sample_rate_hz", "gain_db",
-                        "bandwidth_hz", "antenna", "level_offset_db", "swap_iq", "loop"}));
+                        "bandwidth_hz", "antenna", "level_offset_db", "swap_iq", "loop", "gains"}));
 }
 
 void read_filter(TableReader& t, FilterSpec& f) {
@@ -565,6 +573,12 @@ std::string session_to_toml(const Setup& s) {
         w.num("level_offset_db", src.level_offset_db);
         w.boolean("swap_iq", src.swap_iq);
         w.boolean("loop", src.loop);
+        if (!src.gains.empty()) {
+            w.out << "gains = {";
+            for (std::size_t i = 0; i < src.gains.size(); ++i)
+                w.out << (i ? ", " : " ") << toml_quote(src.gains[i].name) << " = " << format_number(src.gains[i].db);
+            w.out << " }\n";
+        }
     }
     w.section("[rf_filter]");
     write_filter(w, s.rf_filter);

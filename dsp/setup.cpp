@@ -179,6 +179,10 @@ std::vector<SetupProblem> validate(const Setup& s) {
         c.opt_range(at + ".gain_db", src.gain_db, -100, 200, "dB");
         if (src.bandwidth_hz) c.positive(at + ".bandwidth_hz", *src.bandwidth_hz, kMaxFrequencyHz, "Hz");
         c.range(at + ".level_offset_db", src.level_offset_db, -300, 300, "dB");
+        for (const NamedGain& g : src.gains) {
+            if (g.name.empty()) c.fail(at + ".gains", "a gain element needs a name, e.g. gains = { LNA = 12 }");
+            c.range(at + ".gains." + g.name, g.db, -100, 200, "dB");
+        }
     }
 
     check_filter(c, "rf_filter", s.rf_filter);

@@ -20,6 +20,13 @@ struct BenchInfo {
 
 enum class SourceKind { recording, device, generator };
 
+// One named gain element of a device (e.g. "LNA"), set after the overall gain.
+struct NamedGain {
+    std::string name;
+    double db = 0.0;
+    friend bool operator==(const NamedGain&, const NamedGain&) = default;
+};
+
 struct SourceSpec {
     SourceKind kind = SourceKind::generator;
     std::string path;      // recording: .sigmf-meta, .sigmf-data, .wav or raw file
@@ -31,6 +38,7 @@ struct SourceSpec {
     std::optional<double> gain_db;         // device gain (overall)
     std::optional<double> bandwidth_hz;    // device analog bandwidth
     std::string antenna;                   // device antenna
+    std::vector<NamedGain> gains;          // device named gains, applied after gain_db (sorted by name)
     double level_offset_db = 0.0;  // dBm at the RF port = dBFS + level_offset_db
     bool swap_iq = false;          // WAV / raw: exchange I and Q
     bool loop = false;             // recordings: loop playback

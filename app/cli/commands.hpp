@@ -10,8 +10,12 @@ inline constexpr int kExitOk = 0;
 inline constexpr int kExitFail = 1;   // the bench ran and a limit failed
 inline constexpr int kExitError = 2;  // bad input, bad usage or a device error
 
+// Registers every command below (app/cli/registry.cpp: one line per command).
+void register_all(CLI::App& app, int& rc);
+
 // Each register_* adds one sub-command whose callback stores its exit code in `rc`.
 void register_check(CLI::App& app, int& rc);
 void register_plan(CLI::App& app, int& rc);
+void register_devices(CLI::App& app, int& rc);
 
 }  // namespace hb::cli

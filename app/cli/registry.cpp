@@ -1,0 +1,13 @@
+// The list of hetbench commands, one line each (merge=union in .gitattributes: additions from parallel
+// branches simply accumulate).
+#include "cli/commands.hpp"
+
+namespace hb::cli {
+
+void register_all(CLI::App& app, int& rc) {
+    register_check(app, rc);
+    register_plan(app, rc);
+    register_devices(app, rc);
+}
+
+}  // namespace hb::cli
