@@ -51,7 +51,10 @@ LoSeries lo_series(const LoWaveform& w) {
     s.harmonics = w.shape == LoShape::sine ? 1 : w.harmonics;
     s.coeff.assign(static_cast<std::size_t>(2 * s.harmonics + 1), {});
     for (int m = -s.harmonics; m <= s.harmonics; ++m) {
-        const double c = lo_cosine_coefficient(w, m);
+        double c = lo_cosine_coefficient(w, m);
+        // sin(π·m·d) of an exact zero (an even harmonic at d = 0.5) leaves ~1e-17: keep zeros zero, so the
+        // emulator skips those terms (a real coefficient this small would be 240 dB down).
+        if (std::abs(c) < 1e-12) c = 0.0;
         s.coeff[static_cast<std::size_t>(m + s.harmonics)] = m == 0 ? c : c / 2.0;
     }
     return s;
