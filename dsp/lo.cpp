@@ -9,6 +9,7 @@
 
 #include "dsp/errors.hpp"
 #include "dsp/units.hpp"
+#include "dsp/vector_math.hpp"
 
 namespace hb {
 namespace {
@@ -97,7 +98,6 @@ std::uint64_t splitmix64(std::uint64_t& x) {
     z = (z ^ (z >> 27)) * 0x94d049bb133111ebULL;
     return z ^ (z >> 31);
 }
-std::uint64_t rotl(std::uint64_t x, int k) { return (x << k) | (x >> (64 - k)); }
 }  // namespace
 
 GaussRng GaussRng::make(std::uint64_t seed) {
@@ -107,24 +107,35 @@ GaussRng GaussRng::make(std::uint64_t seed) {
     return r;
 }
 
-std::uint64_t GaussRng::next() {
-    const std::uint64_t result = rotl(s[1] * 5, 7) * 9;
-    const std::uint64_t t = s[1] << 17;
-    s[2] ^= s[0];
-    s[3] ^= s[1];
-    s[1] ^= s[2];
-    s[0] ^= s[3];
-    s[2] ^= t;
-    s[3] = rotl(s[3], 45);
-    return result;
-}
-
 void GaussRng::gauss_pair(double& a, double& b) {
     const double u1 = 1.0 - uniform();  // (0, 1]: log stays finite
     const double u2 = uniform();
     const double r = std::sqrt(-2.0 * std::log(u1));
     a = r * std::cos(kTwoPi * u2);
     b = r * std::sin(kTwoPi * u2);
+}
+
+void GaussRng::fill_pairs(float* a, float* b, std::size_t n) {
+    constexpr std::size_t kBatch = 64;
+    alignas(64) float u1[kBatch], u2[kBatch];
+    while (n > 0) {
+        const std::size_t m = std::min(n, kBatch);
+        for (std::size_t i = 0; i < m; ++i) {
+            const std::uint64_t r = next();
+            u1[i] = (static_cast<float>(r >> 40) + 0.5f) * 0x1.0p-24f;              // (0, 1)
+            u2[i] = static_cast<float>((r >> 16) & 0xffffffu) * 0x1.0p-24f;        // [0, 1)
+        }
+        for (std::size_t i = 0; i < m; ++i) {
+            const float rad = vmath::sqrt_nonneg(-2.0f * vmath::log_pos(u1[i]));
+            float s, c;
+            vmath::sincos_turns(u2[i], s, c);
+            a[i] = rad * c;
+            b[i] = rad * s;
+        }
+        a += m;
+        b += m;
+        n -= m;
+    }
 }
 
 std::uint64_t derive_seed(std::uint64_t seed, std::uint64_t tag) {
@@ -209,12 +220,7 @@ struct PhaseNoiseSource::Impl {
     void next_block() {
         const std::size_t n2 = 2 * len;
         std::copy(history.begin(), history.end(), time);
-        for (std::size_t i = 0; i < len; i += 2) {
-            double a, b;
-            rng.gauss_pair(a, b);
-            time[len + i] = static_cast<float>(a);
-            if (i + 1 < len) time[len + i + 1] = static_cast<float>(b);
-        }
+        rng.fill_pairs(time + len, time + len + len / 2, len / 2);
         std::copy(time + len, time + n2, history.begin());
         fftwf_execute(fwd);
         auto* f = reinterpret_cast<std::complex<float>*>(freq);
@@ -305,12 +311,7 @@ void PhaseNoiseSource::reset() {
     if (!impl_) return;
     impl_->rng = GaussRng::make(derive_seed(impl_->seed, kPhaseNoiseSeedTag));
     // Prime the history with white noise so the output is stationary from the first sample.
-    for (std::size_t i = 0; i < impl_->len; i += 2) {
-        double a, b;
-        impl_->rng.gauss_pair(a, b);
-        impl_->history[i] = static_cast<float>(a);
-        if (i + 1 < impl_->len) impl_->history[i + 1] = static_cast<float>(b);
-    }
+    impl_->rng.fill_pairs(impl_->history.data(), impl_->history.data() + impl_->len / 2, impl_->len / 2);
     impl_->next_block();
 }
 

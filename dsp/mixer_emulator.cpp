@@ -5,12 +5,13 @@
 
 #include "dsp/errors.hpp"
 #include "dsp/units.hpp"
+#include "dsp/vector_math.hpp"
 
 namespace hb {
 namespace {
 
 constexpr std::size_t kChunk = 2048;  // samples per re-seed of the NCO lanes; L1-sized scratch
-constexpr std::size_t kLanes = 16;    // time lanes: one AVX-512 register of floats, two AVX2 ones
+constexpr std::size_t kLanes = 32;    // time lanes: two independent phasor chains of 16 floats (AVX-512)
 constexpr std::uint64_t kNoiseSeedTag = 0x6e6f6973;  // "nois"
 constexpr std::uint64_t kPhaseSeedTag = 0x6c6f706e;  // "lopn"
 
@@ -22,7 +23,7 @@ struct Line {
     std::complex<double> coeff;
     double delta = 0.0;               // cycles per sample
     double phase = 0.0;               // cycles, [0, 1), at the start of the next chunk
-    std::complex<double> sample_step; // e^{j2πΔ}
+    double lane_re[kLanes] = {}, lane_im[kLanes] = {};  // e^{j2πΔ·lane}: seeds are independent multiplies
     float step_re = 1.0f, step_im = 0.0f;  // e^{j2πΔ·kLanes}
     bool straddles = false;
 };
@@ -118,7 +119,7 @@ struct MixerEmulator::Impl {
     float noise_sigma = 0.0f;  // per component
 
     // Scratch, kChunk each (structure of arrays).
-    std::vector<float> xr, xi, e0, e1r, e1i, e2r, e2i, e3r, e3i, ar, ai, tr, ti, phi, br, bi, cr, ci;
+    std::vector<float> xr, xi, e0, e1r, e1i, e2r, e2i, e3r, e3i, ar, ai, tr, ti, phi, br, bi, cr, ci, nr, ni;
 
     void run_chunk(const std::complex<float>* in, std::complex<float>* out, std::size_t cnt);
 };
@@ -205,7 +206,11 @@ MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfi
     // Drop lines whose merged coefficient cancelled; finish the NCO steps; order by phase-noise multiplier.
     std::erase_if(s.lines, [](const Line& l) { return std::abs(l.coeff) == 0.0; });
     for (Line& l : s.lines) {
-        l.sample_step = std::polar(1.0, kTwoPi * l.delta);
+        for (std::size_t lane = 0; lane < kLanes; ++lane) {
+            const double a = kTwoPi * std::fmod(l.delta * static_cast<double>(lane), 1.0);
+            l.lane_re[lane] = std::cos(a);
+            l.lane_im[lane] = std::sin(a);
+        }
         const std::complex<double> st = std::polar(1.0, kTwoPi * l.delta * static_cast<double>(kLanes));
         l.step_re = static_cast<float>(st.real());
         l.step_im = static_cast<float>(st.imag());
@@ -230,7 +235,7 @@ MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfi
         s.noise_sigma = static_cast<float>(std::sqrt(power_from_db(c.noise_out_dbfs_per_hz) * fs / 2.0));
 
     for (auto* v : {&s.xr, &s.xi, &s.e0, &s.e1r, &s.e1i, &s.e2r, &s.e2i, &s.e3r, &s.e3i, &s.ar, &s.ai, &s.tr, &s.ti,
-                    &s.phi, &s.br, &s.bi, &s.cr, &s.ci})
+                    &s.phi, &s.br, &s.bi, &s.cr, &s.ci, &s.nr, &s.ni})
         v->assign(kChunk, 0.0f);
     em.reset();
     return em;
@@ -321,12 +326,12 @@ void MixerEmulator::Impl::run_chunk(const std::complex<float>* in, std::complex<
     if (pn_on) {
         pn.generate(phi.data(), cnt);
         std::fill(phi.begin() + static_cast<std::ptrdiff_t>(cnt), phi.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
-        for (std::size_t i = 0; i < n; ++i) {
-            br[i] = std::cos(phi[i]);
-            bi[i] = std::sin(phi[i]);
-            cr[i] = 1.0f;
-            ci[i] = 0.0f;
-        }
+        const float* __restrict ph = phi.data();
+        float* __restrict pbr = br.data();
+        float* __restrict pbi = bi.data();
+        for (std::size_t i = 0; i < n; ++i) vmath::sincos_turns(ph[i] * 0.159154943091895336f, pbi[i], pbr[i]);
+        std::fill(cr.begin(), cr.begin() + static_cast<std::ptrdiff_t>(n), 1.0f);
+        std::fill(ci.begin(), ci.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
     }
 
     alignas(64) float seed_re[kLanes], seed_im[kLanes];
@@ -348,11 +353,14 @@ void MixerEmulator::Impl::run_chunk(const std::complex<float>* in, std::complex<
             while (end < lines.size() && lines[end].pn == pnk) ++end;
         for (std::size_t j = i; j < end; ++j) {
             Line& l = lines[j];
-            std::complex<double> p = l.coeff * std::polar(1.0, kTwoPi * l.phase);
+            // Lane seeds coeff·e^{j2π(phase + Δ·lane)} in double (multiplied out by hand: std::complex
+            // multiplication goes through the NaN-safe library call).
+            const double c0 = std::cos(kTwoPi * l.phase), s0 = std::sin(kTwoPi * l.phase);
+            const double ar0 = l.coeff.real() * c0 - l.coeff.imag() * s0;
+            const double ai0 = l.coeff.real() * s0 + l.coeff.imag() * c0;
             for (std::size_t lane = 0; lane < kLanes; ++lane) {
-                seed_re[lane] = static_cast<float>(p.real());
-                seed_im[lane] = static_cast<float>(p.imag());
-                p *= l.sample_step;
+                seed_re[lane] = static_cast<float>(ar0 * l.lane_re[lane] - ai0 * l.lane_im[lane]);
+                seed_im[lane] = static_cast<float>(ar0 * l.lane_im[lane] + ai0 * l.lane_re[lane]);
             }
             switch (l.env) {
                 case ZoneEnvelope::zone0:
@@ -407,11 +415,10 @@ void MixerEmulator::Impl::run_chunk(const std::complex<float>* in, std::complex<
     }
 
     if (noise_sigma > 0.0f) {
+        rng.fill_pairs(nr.data(), ni.data(), cnt);
         for (std::size_t t = 0; t < cnt; ++t) {
-            double a, b;
-            rng.gauss_pair(a, b);
-            ar[t] += noise_sigma * static_cast<float>(a);
-            ai[t] += noise_sigma * static_cast<float>(b);
+            ar[t] += noise_sigma * nr[t];
+            ai[t] += noise_sigma * ni[t];
         }
     }
     for (std::size_t t = 0; t < cnt; ++t) out[t] = {ar[t], ai[t]};

@@ -11,6 +11,7 @@
 #include "dsp/errors.hpp"
 #include "dsp/lo.hpp"
 #include "dsp/units.hpp"
+#include "dsp/vector_math.hpp"
 
 namespace hb {
 namespace {
@@ -158,6 +159,53 @@ TEST(LoSeries, BadWaveformsAreInputErrors) {
     expect_error(wave(LoShape::bipolar, 0.5, 0.0, 0), "mixer.harmonics");
     expect_error(wave(LoShape::bipolar, 0.5, 0.0, 64), "mixer.harmonics");
     EXPECT_NO_THROW(check_lo_waveform(wave(LoShape::sine, 0.0, 5.0, 0), "mixer"));  // sine ignores them
+}
+
+// The vectorisable float log and sincos against libm in double: float rounding only.
+TEST(VectorMath, LogAndSincosAccuracy) {
+    double worst_log = 0, worst_trig = 0;
+    for (int i = 1; i <= 200000; ++i) {
+        const float u = static_cast<float>(i) / 200000.0f * 0.999f + 1e-7f * static_cast<float>(i % 7);
+        const double ln = std::log(static_cast<double>(u));
+        worst_log = std::max(worst_log, std::abs(vmath::log_pos(u) - ln) / std::max(1.0, std::abs(ln)));
+        const float t = static_cast<float>(i - 100000) * 3.7e-5f;  // about ±3.7 turns
+        float s, c;
+        vmath::sincos_turns(t, s, c);
+        worst_trig = std::max(worst_trig, std::abs(s - std::sin(kTwoPi * static_cast<double>(t))));
+        worst_trig = std::max(worst_trig, std::abs(c - std::cos(kTwoPi * static_cast<double>(t))));
+    }
+    EXPECT_LT(worst_log, 2.4e-7);  // two float ulps of the result
+    EXPECT_LT(worst_trig, 2e-6);  // the argument 2π·t itself rounds in float
+    EXPECT_NEAR(vmath::log_pos(0x1.0p-24f), -24 * std::log(2.0), 2e-6);
+    EXPECT_FLOAT_EQ(vmath::sqrt_nonneg(2.25f), 1.5f);
+}
+
+// The block Gaussian generator: moments of N(0, 1), independent pairs, and the same sequence however the
+// requests are cut.
+TEST(GaussRng, BlockFillMomentsAndCutting) {
+    GaussRng r = GaussRng::make(5);
+    const std::size_t n = 1 << 20;
+    std::vector<float> a(n), b(n);
+    r.fill_pairs(a.data(), b.data(), n);
+    double s1 = 0, s2 = 0, s4 = 0, ab = 0;
+    for (std::size_t i = 0; i < n; ++i) {
+        s1 += a[i] + b[i];
+        s2 += double(a[i]) * a[i] + double(b[i]) * b[i];
+        s4 += std::pow(double(a[i]), 4) + std::pow(double(b[i]), 4);
+        ab += double(a[i]) * b[i];
+    }
+    EXPECT_NEAR(s1 / (2 * n), 0.0, 0.003);
+    EXPECT_NEAR(s2 / (2 * n), 1.0, 0.003);
+    EXPECT_NEAR(s4 / (2 * n), 3.0, 0.03);
+    EXPECT_NEAR(ab / n, 0.0, 0.003);
+    GaussRng r2 = GaussRng::make(5);
+    std::vector<float> c(n), d(n);
+    for (std::size_t pos = 0, k = 1; pos < n; pos += k, k = k * 3 % 1000 + 1) {
+        const std::size_t m = std::min(k, n - pos);
+        r2.fill_pairs(c.data() + pos, d.data() + pos, m);
+    }
+    EXPECT_EQ(a, c);
+    EXPECT_EQ(b, d);
 }
 
 // xoshiro256** + Box–Muller: mean 0, variance 1, fourth moment 3 (Gaussian), reproducible by seed.
