@@ -34,7 +34,8 @@ namespace hb {
 struct EmulatorConfig {
     double rf_center_hz = 0.0;      // centre of the RF window (the input stream's 0 Hz)
     double sample_rate_hz = 0.0;    // input and output rate
-    double output_center_hz = 0.0;  // the output window centre: if_window_center_hz(params, if_hz, injection)
+    double output_center_hz = 0.0;  // the output window centre: if_window_center_hz(params, if_hz, injection);
+                                    // not used by bypass (its output window is the input's, rf_center_hz)
     double rf_occupied_hz = 0.0;    // see above; 0 = keep terms whose centre is in the window
     std::uint64_t seed = 1;         // bench.seed: phase noise and additive noise derive from it
 };

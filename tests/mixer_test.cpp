@@ -414,6 +414,18 @@ TEST(MixerEmulator, NoiseAtNoiseFigure) {
     EXPECT_NEAR(pi / pw, 0.5, 0.01);
 }
 
+// LO frequency error: +100 ppm on a 1 MHz LO is +100 Hz, so a low-side conversion of 1.1 MHz lands 100 Hz
+// below the nominal 100 kHz IF (f_IF = f_RF − f_LO).
+TEST(MixerEmulator, LoFrequencyOffset) {
+    MixerSpec s = spec_of(MixerModel::bipolar);
+    s.lo.offset_ppm = 100;
+    const double fs = 102400;  // 100 Hz bins
+    const auto x = make_tones(1024, fs, {{0.0, 0.5}});
+    const Spectrum sp = Spectrum::of(emulate(resolve_mixer(s, 1e6), config(1.1e6, fs, 100e3, 0), x), fs);
+    EXPECT_NEAR(std::abs(sp.at(-100.0)), 0.5 * 2 / kPi, 1e-5);
+    EXPECT_LT(std::abs(sp.at(0.0)), 1e-6);
+}
+
 // ---------------------------------------------------------------------------------------------
 // Predicted levels and the spur table
 
