@@ -362,36 +362,29 @@ void MixerEmulator::Impl::run_chunk(const std::complex<float>* in, std::complex<
                 seed_re[lane] = static_cast<float>(ar0 * l.lane_re[lane] - ai0 * l.lane_im[lane]);
                 seed_im[lane] = static_cast<float>(ar0 * l.lane_im[lane] + ai0 * l.lane_re[lane]);
             }
+            const float* er = nullptr;  // the complex envelope of zones 1..3
+            const float* ei = nullptr;
             switch (l.env) {
                 case ZoneEnvelope::zone0:
                     acc_real(e0.data(), dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
                     break;
-                case ZoneEnvelope::zone1:
-                    if (l.conj)
-                        acc_complex<true>(e1re, e1im, dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
-                    else
-                        acc_complex<false>(e1re, e1im, dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
-                    break;
-                case ZoneEnvelope::zone2:
-                    if (l.conj)
-                        acc_complex<true>(e2r.data(), e2i.data(), dst_r, dst_i, seed_re, seed_im, l.step_re,
-                                          l.step_im, n);
-                    else
-                        acc_complex<false>(e2r.data(), e2i.data(), dst_r, dst_i, seed_re, seed_im, l.step_re,
-                                           l.step_im, n);
-                    break;
-                case ZoneEnvelope::zone3:
-                    if (l.conj)
-                        acc_complex<true>(e3r.data(), e3i.data(), dst_r, dst_i, seed_re, seed_im, l.step_re,
-                                          l.step_im, n);
-                    else
-                        acc_complex<false>(e3r.data(), e3i.data(), dst_r, dst_i, seed_re, seed_im, l.step_re,
-                                           l.step_im, n);
-                    break;
                 case ZoneEnvelope::constant:
                     acc_const(dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
                     break;
+                case ZoneEnvelope::zone1:
+                    er = e1re, ei = e1im;
+                    break;
+                case ZoneEnvelope::zone2:
+                    er = e2r.data(), ei = e2i.data();
+                    break;
+                case ZoneEnvelope::zone3:
+                    er = e3r.data(), ei = e3i.data();
+                    break;
             }
+            if (er && l.conj)
+                acc_complex<true>(er, ei, dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
+            else if (er)
+                acc_complex<false>(er, ei, dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
             // Exact phase for the next chunk, from the double accumulator.
             l.phase += l.delta * static_cast<double>(cnt);
             l.phase -= std::floor(l.phase);

@@ -1,6 +1,5 @@
 // LO waveforms, their Fourier series, the seeded Gaussian source and LO phase noise.
 // Check values: ../shared/reference-values.md §2 (F1–F5), each with its source named beside the check.
-#include <fftw3.h>
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -12,6 +11,7 @@
 #include "dsp/lo.hpp"
 #include "dsp/units.hpp"
 #include "dsp/vector_math.hpp"
+#include "support/mixer_probe.hpp"
 
 namespace hb {
 namespace {
@@ -253,33 +253,8 @@ TEST(PhaseNoise, IntegratedPhaseNoise) {
     EXPECT_NEAR(integrated_phase_noise_rad(slope, 500, 1e4), std::sqrt(2 * (9e-6 + 5e-6)), 1e-9);
 }
 
-// Welch estimate (periodic Hann, ENBW 1.5 bins, Harris 1978) of the one-sided PSD of a real sequence.
-std::vector<double> welch_psd(const std::vector<float>& x, int nfft, double fs) {
-    std::vector<float> buf(static_cast<std::size_t>(nfft));
-    std::vector<std::complex<float>> spec(static_cast<std::size_t>(nfft / 2 + 1));
-    fftwf_plan p = fftwf_plan_dft_r2c_1d(nfft, buf.data(), reinterpret_cast<fftwf_complex*>(spec.data()),
-                                         FFTW_ESTIMATE);
-    std::vector<double> w(static_cast<std::size_t>(nfft));
-    double s2 = 0;
-    for (int i = 0; i < nfft; ++i) {
-        w[static_cast<std::size_t>(i)] = 0.5 - 0.5 * std::cos(kTwoPi * i / nfft);
-        s2 += w[static_cast<std::size_t>(i)] * w[static_cast<std::size_t>(i)];
-    }
-    std::vector<double> psd(static_cast<std::size_t>(nfft / 2 + 1), 0.0);
-    int frames = 0;
-    for (std::size_t start = 0; start + static_cast<std::size_t>(nfft) <= x.size(); start += static_cast<std::size_t>(nfft / 2)) {
-        for (int i = 0; i < nfft; ++i) buf[static_cast<std::size_t>(i)] = static_cast<float>(x[start + static_cast<std::size_t>(i)] * w[static_cast<std::size_t>(i)]);
-        fftwf_execute(p);
-        for (std::size_t k = 0; k < psd.size(); ++k) psd[k] += std::norm(std::complex<double>(spec[k]));
-        ++frames;
-    }
-    fftwf_destroy_plan(p);
-    for (auto& v : psd) v = 2.0 * v / (frames * fs * s2);  // one-sided density
-    return psd;
-}
-
 // The generated phase has S_φ(f) = 2·L(f) (small-angle definition of L(f); IEEE Std 1139 form, from memory):
-// Welch-measured within 0.5 dB of the profile at offsets across it.
+// Welch-measured (tests/support/mixer_probe.hpp) within 0.5 dB of the profile at offsets across it.
 TEST(PhaseNoise, GeneratedSpectrumFollowsProfile) {
     const double fs = 1.0e6;
     const std::vector<PhaseNoisePoint> prof{{1e3, -80}, {1e4, -100}, {1e5, -110}, {3e5, -125}};
@@ -293,13 +268,11 @@ TEST(PhaseNoise, GeneratedSpectrumFollowsProfile) {
         src.generate(phi.data() + pos, n);
         pos += n;
     }
-    const int nfft = 16384;
-    const auto psd = welch_psd(phi, nfft, fs);
+    // A real record's two-sided density is S_φ/2 = L(f) on each side.
+    const std::vector<test::cf32> z(phi.begin(), phi.end());
+    const auto psd = test::welch_density(z, fs, 16384);
     for (double f : {3e3, 1e4, 3e4, 1e5, 2e5, 4e5}) {
-        const int k = static_cast<int>(std::lround(f * nfft / fs));
-        double acc = 0;
-        for (int d = -4; d <= 4; ++d) acc += psd[static_cast<std::size_t>(k + d)];
-        const double l_meas = 10 * std::log10(acc / 9 / 2.0);
+        const double l_meas = 10 * std::log10(test::density_near(psd, fs, f, 4));
         EXPECT_NEAR(l_meas, phase_noise_dbc_per_hz(prof, f), 0.5) << "offset " << f << " Hz";
     }
     // Same seed, same sequence after reset.

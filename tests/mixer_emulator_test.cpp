@@ -13,35 +13,21 @@
 #include "dsp/mixer.hpp"
 #include "dsp/mixer_emulator.hpp"
 #include "dsp/units.hpp"
-#include "support/tone_probe.hpp"
+#include "support/mixer_probe.hpp"
 
 namespace hb {
 namespace {
 
 using test::cf32;
+using test::emulate;
 using test::make_tones;
 using test::Spectrum;
 using test::Tone;
 
 double db20(double a) { return 20.0 * std::log10(a); }
 
-std::vector<cf32> emulate(MixerEmulator& em, const std::vector<cf32>& x, std::size_t block = 4096) {
-    std::vector<cf32> y(x.size());
-    for (std::size_t pos = 0; pos < x.size(); pos += block) {
-        const std::size_t n = std::min(block, x.size() - pos);
-        em.process(std::span<const cf32>(x.data() + pos, n), std::span<cf32>(y.data() + pos, n));
-    }
-    return y;
-}
-
 EmulatorConfig config(double rf_center, double fs, double out_center, double occupied, std::uint64_t seed = 1) {
-    EmulatorConfig c;
-    c.rf_center_hz = rf_center;
-    c.sample_rate_hz = fs;
-    c.output_center_hz = out_center;
-    c.rf_occupied_hz = occupied;
-    c.seed = seed;
-    return c;
+    return test::emulator_config(rf_center, fs, out_center, occupied, seed);
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -242,34 +228,8 @@ INSTANTIATE_TEST_SUITE_P(Presets, PredictedVsMeasured, ::testing::Values("single
 // ---------------------------------------------------------------------------------------------
 // LO phase noise on the output: with a small integrated phase deviation the sidebands of a converted carrier
 // read L(f) in dBc/Hz (L(f) ≈ S_φ(f)/2, small-angle; IEEE Std 1139, from memory), and the m-th LO harmonic
-// carries m·φ: +20·log10(3) = +9.54 dB on the 3rd (derivable). Welch, periodic Hann (ENBW 1.5 bins, Harris
-// 1978), density scaling; within 1 dB.
-double welch_dbc_per_hz(const std::vector<cf32>& z, double fs, int nfft, double offset_hz, double carrier_power) {
-    std::vector<cf32> buf(static_cast<std::size_t>(nfft));
-    fftwf_plan p = fftwf_plan_dft_1d(nfft, reinterpret_cast<fftwf_complex*>(buf.data()),
-                                     reinterpret_cast<fftwf_complex*>(buf.data()), FFTW_FORWARD, FFTW_ESTIMATE);
-    std::vector<double> w(static_cast<std::size_t>(nfft)), psd(static_cast<std::size_t>(nfft), 0.0);
-    double s2 = 0;
-    for (int i = 0; i < nfft; ++i) {
-        w[static_cast<std::size_t>(i)] = 0.5 - 0.5 * std::cos(kTwoPi * i / nfft);
-        s2 += w[static_cast<std::size_t>(i)] * w[static_cast<std::size_t>(i)];
-    }
-    int frames = 0;
-    for (std::size_t start = 0; start + static_cast<std::size_t>(nfft) <= z.size(); start += static_cast<std::size_t>(nfft / 2)) {
-        for (int i = 0; i < nfft; ++i)
-            buf[static_cast<std::size_t>(i)] = z[start + static_cast<std::size_t>(i)] * static_cast<float>(w[static_cast<std::size_t>(i)]);
-        fftwf_execute(p);
-        for (int k = 0; k < nfft; ++k) psd[static_cast<std::size_t>(k)] += std::norm(std::complex<double>(buf[static_cast<std::size_t>(k)]));
-        ++frames;
-    }
-    fftwf_destroy_plan(p);
-    const int k0 = static_cast<int>(std::lround(offset_hz * nfft / fs));
-    double acc = 0;
-    for (int d = -3; d <= 3; ++d) acc += psd[static_cast<std::size_t>(((k0 + d) % nfft + nfft) % nfft)];
-    const double density = acc / 7 / (frames * fs * s2);  // two-sided density of a complex record
-    return 10 * std::log10(density / carrier_power);
-}
-
+// carries m·φ: +20·log10(3) = +9.54 dB on the 3rd (derivable). Welch, periodic Hann, density scaling
+// (tests/support/mixer_probe.hpp); within 1 dB.
 TEST(MixerPhaseNoise, SidebandsFollowProfileAndHarmonicOrder) {
     const std::vector<PhaseNoisePoint> prof{{1e3, -80}, {1e4, -95}, {1e5, -115}, {3e5, -125}};
     const double fs = 1.024e6;
@@ -285,9 +245,11 @@ TEST(MixerPhaseNoise, SidebandsFollowProfileAndHarmonicOrder) {
     for (const cf32& v : y) pw += std::norm(std::complex<double>(v));
     pw /= static_cast<double>(n);
     EXPECT_NEAR(10 * std::log10(pw), -6.02, 0.05);  // phase noise keeps the power
+    const auto psd = test::welch_density(y, fs, 16384);
     for (double f : {3e3, 1e4, 3e4, 1e5, 2e5})
         for (double sgn : {-1.0, 1.0})
-            EXPECT_NEAR(welch_dbc_per_hz(y, fs, 16384, sgn * f, pw), phase_noise_dbc_per_hz(prof, f), 1.0)
+            EXPECT_NEAR(10 * std::log10(test::density_near(psd, fs, sgn * f, 3) / pw), phase_noise_dbc_per_hz(prof, f),
+                        1.0)
                 << "offset " << sgn * f << " Hz";
 
     // The (3, −1) product of a ±1 switch: 3·350 kHz − 1 MHz = 50 kHz, alone in a window centred there.
@@ -301,8 +263,10 @@ TEST(MixerPhaseNoise, SidebandsFollowProfileAndHarmonicOrder) {
     for (const cf32& v : y3) p3w += std::norm(std::complex<double>(v));
     p3w /= static_cast<double>(n);
     EXPECT_NEAR(10 * std::log10(p3w), predict_product(p3, 3, -1, 0.0).dbfs, 0.05);
+    const auto psd3 = test::welch_density(y3, fs, 16384);
     for (double f : {1e4, 3e4, 1e5})
-        EXPECT_NEAR(welch_dbc_per_hz(y3, fs, 16384, f, p3w), phase_noise_dbc_per_hz(prof, f) + 9.54, 1.0)
+        EXPECT_NEAR(10 * std::log10(test::density_near(psd3, fs, f, 3) / p3w), phase_noise_dbc_per_hz(prof, f) + 9.54,
+                    1.0)
             << "offset " << f << " Hz";
 }
 

@@ -2,7 +2,7 @@
 // multiplier, switching conversion gain, LO harmonics, image rejection, two-tone intermodulation, port
 // isolation, noise), and the predicted levels / spur table for the plan engine.
 // Check values: ../shared/reference-values.md §2–§6, each with its source beside the check. Tone levels are
-// read from exact FFT bins (tests/support/tone_probe.hpp).
+// read from exact FFT bins (tests/support/mixer_probe.hpp).
 #include <gtest/gtest.h>
 
 #include <cmath>
@@ -12,36 +12,21 @@
 #include "dsp/mixer.hpp"
 #include "dsp/mixer_emulator.hpp"
 #include "dsp/units.hpp"
-#include "support/tone_probe.hpp"
+#include "support/mixer_probe.hpp"
 
 namespace hb {
 namespace {
 
 using test::cf32;
+using test::emulate;
 using test::make_tones;
 using test::Spectrum;
 using test::Tone;
 
 double db20(double a) { return 20.0 * std::log10(a); }
 
-std::vector<cf32> emulate(const MixerParams& p, const EmulatorConfig& cfg, const std::vector<cf32>& x,
-                          std::size_t block = 4096) {
-    MixerEmulator em = MixerEmulator::make(p, cfg);
-    std::vector<cf32> y(x.size());
-    for (std::size_t pos = 0; pos < x.size(); pos += block) {
-        const std::size_t n = std::min(block, x.size() - pos);
-        em.process(std::span<const cf32>(x.data() + pos, n), std::span<cf32>(y.data() + pos, n));
-    }
-    return y;
-}
-
 EmulatorConfig config(double rf_center, double fs, double out_center, double occupied) {
-    EmulatorConfig c;
-    c.rf_center_hz = rf_center;
-    c.sample_rate_hz = fs;
-    c.output_center_hz = out_center;
-    c.rf_occupied_hz = occupied;
-    return c;
+    return test::emulator_config(rf_center, fs, out_center, occupied);
 }
 
 MixerSpec spec_of(MixerModel model) {
