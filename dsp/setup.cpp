@@ -5,6 +5,7 @@
 #include <utility>
 
 #include "dsp/plan.hpp"
+#include "dsp/mixer.hpp"
 #include "dsp/units.hpp"
 
 namespace hb {
@@ -190,6 +191,8 @@ std::vector<SetupProblem> validate(const Setup& s) {
         check_filter(c, "if_filter[" + std::to_string(i) + "]", s.if_filters[i]);
 
     const MixerSpec& m = s.mixer;
+    if (!m.preset.empty() && !find_mixer_preset(m.preset))
+        c.fail("mixer.preset", "got \"" + m.preset + "\", expected one of " + mixer_preset_names());
     c.opt_range("mixer.conversion_gain_db", m.conversion_gain_db, -60, 60, "dB");
     c.opt_range("mixer.lo_if_isolation_db", m.lo_if_isolation_db, 0, 200, "dB");
     c.opt_range("mixer.rf_if_isolation_db", m.rf_if_isolation_db, 0, 200, "dB");

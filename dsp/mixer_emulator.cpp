@@ -1,0 +1,420 @@
+#include "dsp/mixer_emulator.hpp"
+
+#include <algorithm>
+#include <cmath>
+
+#include "dsp/errors.hpp"
+#include "dsp/units.hpp"
+#include "dsp/vector_math.hpp"
+
+namespace hb {
+namespace {
+
+constexpr std::size_t kChunk = 2048;  // samples per re-seed of the NCO lanes; L1-sized scratch
+constexpr std::size_t kLanes = 32;    // time lanes: two independent phasor chains of 16 floats (AVX-512)
+constexpr std::uint64_t kNoiseSeedTag = 0x6e6f6973;  // "nois"
+constexpr std::uint64_t kPhaseSeedTag = 0x6c6f706e;  // "lopn"
+
+struct Line {
+    ZoneEnvelope env = ZoneEnvelope::constant;
+    bool conj = false;
+    int pn = 0;                       // LO phase-noise multiplier
+    double freq_hz = 0.0;             // absolute output frequency
+    std::complex<double> coeff;
+    double delta = 0.0;               // cycles per sample
+    double phase = 0.0;               // cycles, [0, 1), at the start of the next chunk
+    double lane_re[kLanes] = {}, lane_im[kLanes] = {};  // e^{j2πΔ·lane}: seeds are independent multiplies
+    float step_re = 1.0f, step_im = 0.0f;  // e^{j2πΔ·kLanes}
+    bool straddles = false;
+};
+
+// acc += env·p over n samples (a multiple of kLanes); p starts at the seeds and turns by `step` per kLanes.
+// Lanes over time: each of the kLanes phasors serves every kLanes-th sample, so the recurrence vectorises.
+template <bool Conj>
+void acc_complex(const float* __restrict er, const float* __restrict ei, float* __restrict ar, float* __restrict ai,
+                 const float* seed_re, const float* seed_im, float sr, float si, std::size_t n) {
+    alignas(64) float pr[kLanes], pi[kLanes];
+    for (std::size_t l = 0; l < kLanes; ++l) {
+        pr[l] = seed_re[l];
+        pi[l] = seed_im[l];
+    }
+    for (std::size_t b = 0; b < n; b += kLanes) {
+        for (std::size_t l = 0; l < kLanes; ++l) {
+            const float xr = er[b + l];
+            const float xi = Conj ? -ei[b + l] : ei[b + l];
+            ar[b + l] += xr * pr[l] - xi * pi[l];
+            ai[b + l] += xr * pi[l] + xi * pr[l];
+            const float t = pr[l] * sr - pi[l] * si;
+            pi[l] = pr[l] * si + pi[l] * sr;
+            pr[l] = t;
+        }
+    }
+}
+
+void acc_real(const float* __restrict e, float* __restrict ar, float* __restrict ai, const float* seed_re,
+              const float* seed_im, float sr, float si, std::size_t n) {
+    alignas(64) float pr[kLanes], pi[kLanes];
+    for (std::size_t l = 0; l < kLanes; ++l) {
+        pr[l] = seed_re[l];
+        pi[l] = seed_im[l];
+    }
+    for (std::size_t b = 0; b < n; b += kLanes) {
+        for (std::size_t l = 0; l < kLanes; ++l) {
+            const float x = e[b + l];
+            ar[b + l] += x * pr[l];
+            ai[b + l] += x * pi[l];
+            const float t = pr[l] * sr - pi[l] * si;
+            pi[l] = pr[l] * si + pi[l] * sr;
+            pr[l] = t;
+        }
+    }
+}
+
+void acc_const(float* __restrict ar, float* __restrict ai, const float* seed_re, const float* seed_im, float sr,
+               float si, std::size_t n) {
+    alignas(64) float pr[kLanes], pi[kLanes];
+    for (std::size_t l = 0; l < kLanes; ++l) {
+        pr[l] = seed_re[l];
+        pi[l] = seed_im[l];
+    }
+    for (std::size_t b = 0; b < n; b += kLanes) {
+        for (std::size_t l = 0; l < kLanes; ++l) {
+            ar[b + l] += pr[l];
+            ai[b + l] += pi[l];
+            const float t = pr[l] * sr - pi[l] * si;
+            pi[l] = pr[l] * si + pi[l] * sr;
+            pr[l] = t;
+        }
+    }
+}
+
+int envelope_order(ZoneEnvelope e, bool cubic) {
+    switch (e) {
+        case ZoneEnvelope::zone0:
+        case ZoneEnvelope::zone2:
+            return 2;
+        case ZoneEnvelope::zone1:
+            return cubic ? 3 : 1;
+        case ZoneEnvelope::zone3:
+            return 3;
+        default:
+            return 0;
+    }
+}
+
+}  // namespace
+
+struct MixerEmulator::Impl {
+    bool bypass = false;
+    double out_center = 0.0;
+    double fs = 0.0;
+    std::uint64_t seed = 1;
+    std::vector<Line> lines;  // sorted by |pn|, then pn
+    std::vector<ZoneTerm> terms;
+    float c3 = 0.0f;  // E1 = x·(1 + c3·|x|²), c3 = 3·a3/4
+    bool need_e0 = false, need_e1 = false, e1_cubic = false, need_e2 = false, need_e3 = false;
+    bool pn_on = false;
+    PhaseNoiseSource pn;
+    GaussRng rng;
+    float noise_sigma = 0.0f;  // per component
+
+    // Scratch, kChunk each (structure of arrays).
+    std::vector<float> xr, xi, e0, e1r, e1i, e2r, e2i, e3r, e3i, ar, ai, tr, ti, phi, br, bi, cr, ci, nr, ni;
+
+    void run_chunk(const std::complex<float>* in, std::complex<float>* out, std::size_t cnt);
+};
+
+MixerEmulator::MixerEmulator() = default;
+MixerEmulator::~MixerEmulator() = default;
+MixerEmulator::MixerEmulator(MixerEmulator&&) noexcept = default;
+MixerEmulator& MixerEmulator::operator=(MixerEmulator&&) noexcept = default;
+
+MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfig& cfg) {
+    if (!std::isfinite(cfg.sample_rate_hz) || !(cfg.sample_rate_hz > 0))
+        throw InputError("mixer emulator: sample rate " + format_number(cfg.sample_rate_hz) +
+                         " Hz, expected a positive number");
+    if (!std::isfinite(cfg.rf_center_hz) || !std::isfinite(cfg.output_center_hz))
+        throw InputError("mixer emulator: RF centre " + format_number(cfg.rf_center_hz) + " Hz / output centre " +
+                         format_number(cfg.output_center_hz) + " Hz, expected finite frequencies");
+    if (!std::isfinite(cfg.rf_occupied_hz) || cfg.rf_occupied_hz < 0)
+        throw InputError("mixer emulator: occupied bandwidth " + format_number(cfg.rf_occupied_hz) +
+                         " Hz, expected 0 or more");
+
+    MixerEmulator em;
+    em.impl_ = std::make_unique<Impl>();
+    Impl& s = *em.impl_;
+    s.fs = cfg.sample_rate_hz;
+    s.seed = cfg.seed;
+    if (params.model == MixerModel::bypass) {
+        s.bypass = true;
+        s.out_center = cfg.rf_center_hz;
+        return em;
+    }
+    s.out_center = cfg.output_center_hz;
+
+    const MixerCoeffs c = mixer_coeffs(params);
+    const bool cubic = c.a3 != 0.0;
+    const double fs = cfg.sample_rate_hz, fc = cfg.rf_center_hz, flo = params.lo_hz, wc = cfg.output_center_hz;
+    const double half = fs / 2.0;
+    const double kappa[4] = {c.a2 / 2.0, 0.5, c.a2 / 4.0, c.a3 / 8.0};  // U_q = kappa_q · E_q
+    const ZoneEnvelope zone[4] = {ZoneEnvelope::zone0, ZoneEnvelope::zone1, ZoneEnvelope::zone2, ZoneEnvelope::zone3};
+
+    auto add = [&](ZoneEnvelope env, bool conj, double f, std::complex<double> coeff, int pn) {
+        if (std::abs(coeff) == 0.0) return;
+        if (env == ZoneEnvelope::zone0 || env == ZoneEnvelope::constant) conj = false;  // real envelopes
+        const double d = f - wc;
+        const double h = envelope_order(env, cubic) * cfg.rf_occupied_hz / 2.0;
+        const bool keep = h > 0 ? std::abs(d) - h < half : (d >= -half && d < half);
+        if (!keep) return;
+        for (Line& l : s.lines)
+            if (l.env == env && l.conj == conj && l.pn == pn && l.freq_hz == f) {
+                l.coeff += coeff;
+                return;
+            }
+        Line l;
+        l.env = env;
+        l.conj = conj;
+        l.pn = pn;
+        l.freq_hz = f;
+        l.coeff = coeff;
+        l.delta = d / fs;
+        l.straddles = h > 0 && std::abs(d) + h > half;
+        s.lines.push_back(l);
+    };
+
+    const int k = c.harmonics;
+    const double tiny = 1e-9 * std::max({std::abs(fc), std::abs(flo), 1.0});
+    for (int q = -kMixerMaxRfOrder; q <= kMixerMaxRfOrder; ++q) {
+        const int aq = q < 0 ? -q : q;
+        for (int m = -k; m <= k; ++m) {
+            const std::complex<double> z = c.lo_at(m) * kappa[aq];
+            const double f = q * fc + m * flo;
+            if (!c.complex_if) {
+                // One of each conjugate pair: the one at a positive frequency (the analytic representation).
+                const bool rep = f > tiny || (std::abs(f) <= tiny && (q > 0 || (q == 0 && m >= 0)));
+                if (rep) add(zone[aq], q < 0, f, z, m);
+            } else {
+                add(zone[aq], q < 0, f, c.mu * z, m);
+                add(zone[aq], !(q < 0), -f, c.nu * std::conj(z), -m);  // ν·z*: conjugate envelope, mirrored
+            }
+        }
+    }
+    for (int m = c.complex_if ? -k : 1; m <= k; ++m)
+        if (m != 0) add(ZoneEnvelope::constant, false, m * flo, c.leak_at(m), m);
+    add(ZoneEnvelope::constant, false, 0.0, c.dc, 0);
+
+    // Drop lines whose merged coefficient cancelled; finish the NCO steps; order by phase-noise multiplier.
+    std::erase_if(s.lines, [](const Line& l) { return std::abs(l.coeff) == 0.0; });
+    for (Line& l : s.lines) {
+        for (std::size_t lane = 0; lane < kLanes; ++lane) {
+            const double a = kTwoPi * std::fmod(l.delta * static_cast<double>(lane), 1.0);
+            l.lane_re[lane] = std::cos(a);
+            l.lane_im[lane] = std::sin(a);
+        }
+        const std::complex<double> st = std::polar(1.0, kTwoPi * l.delta * static_cast<double>(kLanes));
+        l.step_re = static_cast<float>(st.real());
+        l.step_im = static_cast<float>(st.imag());
+    }
+    std::stable_sort(s.lines.begin(), s.lines.end(), [](const Line& a, const Line& b) {
+        return std::abs(a.pn) != std::abs(b.pn) ? std::abs(a.pn) < std::abs(b.pn) : a.pn < b.pn;
+    });
+    for (const Line& l : s.lines) {
+        s.terms.push_back({l.env, l.conj, l.pn, l.freq_hz, l.coeff, l.straddles});
+        s.need_e0 |= l.env == ZoneEnvelope::zone0;
+        s.need_e1 |= l.env == ZoneEnvelope::zone1;
+        s.need_e2 |= l.env == ZoneEnvelope::zone2;
+        s.need_e3 |= l.env == ZoneEnvelope::zone3;
+    }
+    s.e1_cubic = s.need_e1 && cubic;
+    s.need_e0 |= s.e1_cubic;
+    s.c3 = static_cast<float>(3.0 * c.a3 / 4.0);
+
+    s.pn = PhaseNoiseSource::make(params.phase_noise, fs, derive_seed(cfg.seed, kPhaseSeedTag));
+    s.pn_on = s.pn.enabled();
+    if (std::isfinite(c.noise_out_dbfs_per_hz))
+        s.noise_sigma = static_cast<float>(std::sqrt(power_from_db(c.noise_out_dbfs_per_hz) * fs / 2.0));
+
+    for (auto* v : {&s.xr, &s.xi, &s.e0, &s.e1r, &s.e1i, &s.e2r, &s.e2i, &s.e3r, &s.e3i, &s.ar, &s.ai, &s.tr, &s.ti,
+                    &s.phi, &s.br, &s.bi, &s.cr, &s.ci, &s.nr, &s.ni})
+        v->assign(kChunk, 0.0f);
+    em.reset();
+    return em;
+}
+
+void MixerEmulator::reset() {
+    if (!impl_ || impl_->bypass) return;
+    for (Line& l : impl_->lines) l.phase = 0.0;
+    impl_->pn.reset();
+    impl_->rng = GaussRng::make(derive_seed(impl_->seed, kNoiseSeedTag));
+}
+
+double MixerEmulator::output_center_hz() const { return impl_ ? impl_->out_center : 0.0; }
+bool MixerEmulator::bypass() const { return impl_ && impl_->bypass; }
+std::span<const ZoneTerm> MixerEmulator::terms() const {
+    return impl_ ? std::span<const ZoneTerm>(impl_->terms) : std::span<const ZoneTerm>();
+}
+
+void MixerEmulator::process(std::span<const std::complex<float>> in, std::span<std::complex<float>> out) {
+    if (in.size() != out.size())
+        throw InputError("mixer emulator: input block of " + std::to_string(in.size()) + " samples but output of " +
+                         std::to_string(out.size()));
+    if (!impl_) throw InputError("mixer emulator: used before make()");
+    if (impl_->bypass) {
+        if (in.data() != out.data()) std::copy(in.begin(), in.end(), out.begin());
+        return;
+    }
+    for (std::size_t pos = 0; pos < in.size(); pos += kChunk) {
+        const std::size_t cnt = std::min(kChunk, in.size() - pos);
+        impl_->run_chunk(in.data() + pos, out.data() + pos, cnt);
+    }
+}
+
+void MixerEmulator::Impl::run_chunk(const std::complex<float>* in, std::complex<float>* out, std::size_t cnt) {
+    const std::size_t n = (cnt + kLanes - 1) / kLanes * kLanes;  // kernels run on whole lane groups
+    float* __restrict pxr = xr.data();
+    float* __restrict pxi = xi.data();
+    for (std::size_t i = 0; i < cnt; ++i) {
+        pxr[i] = in[i].real();
+        pxi[i] = in[i].imag();
+    }
+    std::fill(pxr + cnt, pxr + n, 0.0f);
+    std::fill(pxi + cnt, pxi + n, 0.0f);
+
+    // RF zone envelopes (constants are in the line coefficients): E0 = |x|², E1 = x·(1 + c3|x|²), E2 = x², E3 = x³.
+    if (need_e0) {
+        float* __restrict o = e0.data();
+        for (std::size_t i = 0; i < n; ++i) o[i] = pxr[i] * pxr[i] + pxi[i] * pxi[i];
+    }
+    const float* e1re = pxr;
+    const float* e1im = pxi;
+    if (e1_cubic) {
+        float* __restrict o_r = e1r.data();
+        float* __restrict o_i = e1i.data();
+        const float* __restrict p0 = e0.data();
+        for (std::size_t i = 0; i < n; ++i) {
+            const float k = 1.0f + c3 * p0[i];
+            o_r[i] = pxr[i] * k;
+            o_i[i] = pxi[i] * k;
+        }
+        e1re = o_r;
+        e1im = o_i;
+    }
+    if (need_e2 || need_e3) {
+        float* __restrict o_r = e2r.data();
+        float* __restrict o_i = e2i.data();
+        for (std::size_t i = 0; i < n; ++i) {
+            o_r[i] = pxr[i] * pxr[i] - pxi[i] * pxi[i];
+            o_i[i] = 2.0f * pxr[i] * pxi[i];
+        }
+    }
+    if (need_e3) {
+        float* __restrict o_r = e3r.data();
+        float* __restrict o_i = e3i.data();
+        const float* __restrict q_r = e2r.data();
+        const float* __restrict q_i = e2i.data();
+        for (std::size_t i = 0; i < n; ++i) {
+            o_r[i] = q_r[i] * pxr[i] - q_i[i] * pxi[i];
+            o_i[i] = q_r[i] * pxi[i] + q_i[i] * pxr[i];
+        }
+    }
+
+    std::fill(ar.begin(), ar.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
+    std::fill(ai.begin(), ai.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
+
+    // Phase noise: base phasor e^{jφ}; the running power e^{j|k|φ} grows with the groups' |k|.
+    int cur_k = 0;
+    if (pn_on) {
+        pn.generate(phi.data(), cnt);
+        std::fill(phi.begin() + static_cast<std::ptrdiff_t>(cnt), phi.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
+        const float* __restrict ph = phi.data();
+        float* __restrict pbr = br.data();
+        float* __restrict pbi = bi.data();
+        for (std::size_t i = 0; i < n; ++i) vmath::sincos_turns(ph[i] * 0.159154943091895336f, pbi[i], pbr[i]);
+        std::fill(cr.begin(), cr.begin() + static_cast<std::ptrdiff_t>(n), 1.0f);
+        std::fill(ci.begin(), ci.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
+    }
+
+    alignas(64) float seed_re[kLanes], seed_im[kLanes];
+    std::size_t i = 0;
+    while (i < lines.size()) {
+        const int pnk = lines[i].pn;
+        const bool rotate = pn_on && pnk != 0;
+        float* dst_r = rotate ? tr.data() : ar.data();
+        float* dst_i = rotate ? ti.data() : ai.data();
+        if (rotate) {
+            std::fill(tr.begin(), tr.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
+            std::fill(ti.begin(), ti.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
+        }
+        // Lines are sorted by |pn|: the pn = 0 group comes first; without phase noise everything is one group.
+        std::size_t end = i;
+        if (!pn_on)
+            end = lines.size();
+        else
+            while (end < lines.size() && lines[end].pn == pnk) ++end;
+        for (std::size_t j = i; j < end; ++j) {
+            Line& l = lines[j];
+            // Lane seeds coeff·e^{j2π(phase + Δ·lane)} in double (multiplied out by hand: std::complex
+            // multiplication goes through the NaN-safe library call).
+            const double c0 = std::cos(kTwoPi * l.phase), s0 = std::sin(kTwoPi * l.phase);
+            const double ar0 = l.coeff.real() * c0 - l.coeff.imag() * s0;
+            const double ai0 = l.coeff.real() * s0 + l.coeff.imag() * c0;
+            for (std::size_t lane = 0; lane < kLanes; ++lane) {
+                seed_re[lane] = static_cast<float>(ar0 * l.lane_re[lane] - ai0 * l.lane_im[lane]);
+                seed_im[lane] = static_cast<float>(ar0 * l.lane_im[lane] + ai0 * l.lane_re[lane]);
+            }
+            const float* er = nullptr;  // the complex envelope of zones 1..3
+            const float* ei = nullptr;
+            switch (l.env) {
+                case ZoneEnvelope::zone0:
+                    acc_real(e0.data(), dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
+                    break;
+                case ZoneEnvelope::constant:
+                    acc_const(dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
+                    break;
+                case ZoneEnvelope::zone1:
+                    er = e1re, ei = e1im;
+                    break;
+                case ZoneEnvelope::zone2:
+                    er = e2r.data(), ei = e2i.data();
+                    break;
+                case ZoneEnvelope::zone3:
+                    er = e3r.data(), ei = e3i.data();
+                    break;
+            }
+            if (er && l.conj)
+                acc_complex<true>(er, ei, dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
+            else if (er)
+                acc_complex<false>(er, ei, dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
+            // Exact phase for the next chunk, from the double accumulator.
+            l.phase += l.delta * static_cast<double>(cnt);
+            l.phase -= std::floor(l.phase);
+        }
+        if (rotate) {
+            const int ak = pnk < 0 ? -pnk : pnk;
+            for (; cur_k < ak; ++cur_k)
+                for (std::size_t t = 0; t < n; ++t) {
+                    const float r = cr[t] * br[t] - ci[t] * bi[t];
+                    ci[t] = cr[t] * bi[t] + ci[t] * br[t];
+                    cr[t] = r;
+                }
+            const float sgn = pnk < 0 ? -1.0f : 1.0f;
+            for (std::size_t t = 0; t < n; ++t) {
+                const float pr = cr[t], pi = sgn * ci[t];
+                ar[t] += tr[t] * pr - ti[t] * pi;
+                ai[t] += tr[t] * pi + ti[t] * pr;
+            }
+        }
+        i = end;
+    }
+
+    if (noise_sigma > 0.0f) {
+        rng.fill_pairs(nr.data(), ni.data(), cnt);
+        for (std::size_t t = 0; t < cnt; ++t) {
+            ar[t] += noise_sigma * nr[t];
+            ai[t] += noise_sigma * ni[t];
+        }
+    }
+    for (std::size_t t = 0; t < cnt; ++t) out[t] = {ar[t], ai[t]};
+}
+
+}  // namespace hb
