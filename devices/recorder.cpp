@@ -126,6 +126,7 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
                                        std::chrono::duration<double>(static_cast<double>(stream_index) / rate)));
     };
     meta.captures.push_back({0, info0.center_hz, std::nullopt, datetime_at(0), 0});
+    meta.sample_count = 0;
 
     if (!sink) sink = open_file_sink(rep.data_path);
     write_sigmf_meta(meta, rep.meta_path);  // valid before the first sample
@@ -155,6 +156,7 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
         }
         std::erase_if(snap.captures, [&](const SigmfCapture& c) { return c.sample_start != 0 && c.sample_start >= durable; });
         std::erase_if(snap.annotations, [&](const SigmfAnnotation& a) { return a.sample_start > durable; });
+        snap.sample_count = durable;
         try {
             write_sigmf_meta(snap, rep.meta_path);
             return true;
@@ -401,6 +403,7 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
         rep.captures = meta.captures.size();
     }
     // The final metadata: everything, for exactly the samples in the data file.
+    meta.sample_count = rep.written;
     std::string err;
     if (!writer_failed.load() && !sink->flush(err)) {
         rep.complete = false;

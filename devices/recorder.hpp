@@ -10,7 +10,8 @@
 //
 // The metadata is valid at every moment: written before the first sample, rewritten atomically
 // (temporary file + rename) at every flush and at the end, each time describing only samples already
-// made durable. A recording killed mid-way is readable up to its last flush (the data may hold more).
+// made durable, with that count in hetbench:sample_count. A recording killed mid-way is readable up to
+// its last flush (the data may hold more; the reader ignores that tail with a warning).
 // A failing disk (full, removed) stops the recording cleanly with valid metadata and a clear message.
 #pragma once
 

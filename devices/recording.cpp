@@ -307,6 +307,21 @@ std::unique_ptr<SampleSource> open_sigmf(const SourceSpec& spec, const std::stri
         if (s.samples > 0) segs.push_back(s);
         if (s.samples < (i + 1 < meta.captures.size() ? meta.captures[i + 1].sample_start - c.sample_start : 1)) break;
     }
+    if (meta.sample_count) {  // the recorder's own count: what the metadata was written for
+        std::uint64_t total = 0;
+        for (const auto& s : segs) total += s.samples;
+        if (total > *meta.sample_count) {
+            warn.push_back(paths.data + ": holds " + std::to_string(total - *meta.sample_count) +
+                           " samples beyond the " + std::to_string(*meta.sample_count) +
+                           " the metadata describes (a recording stopped between flushes); ignored");
+            std::uint64_t keep = *meta.sample_count;
+            for (auto& s : segs) {
+                s.samples = std::min(s.samples, keep);
+                keep -= s.samples;
+            }
+            std::erase_if(segs, [](const SampleFileReader::Segment& s) { return s.samples == 0; });
+        }
+    }
     if (segs.empty()) {
         ::close(fd);
         throw InputError(paths.data + ": holds no " + datatype_name(meta.format) + " sample (" + std::to_string(size) +

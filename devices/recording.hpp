@@ -66,6 +66,9 @@ struct SigmfMeta {
     std::vector<SigmfCapture> captures;
     std::vector<SigmfAnnotation> annotations;
     std::optional<nlohmann::json> setup;  // hetbench:setup, a Setup in setup_to_json form
+    // hetbench:sample_count: samples the metadata describes (the recorder's last flush). Data beyond it
+    // (a recording killed between flushes) is ignored by the reader with a warning.
+    std::optional<std::uint64_t> sample_count;
     std::vector<std::string> warnings;    // things the reader tolerated (filled by the reader)
 };
 

@@ -185,6 +185,8 @@ SigmfMeta parse_sigmf_meta(const std::string& text, const std::string& name) {
         m.setup = *s;
     }
 
+    m.sample_count = gr.count("hetbench:sample_count");
+
     const json& caps = root["captures"];
     for (std::size_t i = 0; i < caps.size(); ++i) {
         const json& c = caps[i];
@@ -264,6 +266,7 @@ nlohmann::json sigmf_meta_to_json(const SigmfMeta& m) {
     if (m.trailing_bytes) g["core:trailing_bytes"] = m.trailing_bytes;
     g["core:extensions"] = json::array(
         {{{"name", kHetbenchExtension}, {"version", kHetbenchExtensionVersion}, {"optional", true}}});
+    if (m.sample_count) g["hetbench:sample_count"] = *m.sample_count;
     if (m.setup) g["hetbench:setup"] = *m.setup;
 
     json caps = json::array();
