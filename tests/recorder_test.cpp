@@ -6,6 +6,7 @@
 // cut off mid-way (files copied at that instant, as a kill would leave them) reads up to its last flush.
 #include <gtest/gtest.h>
 #include <signal.h>
+#include <fcntl.h>
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -521,6 +522,174 @@ if_bandwidth_hz = 15e3
     hb::Setup back = setup_from_json(*m.setup, d.file("s.toml").string());
     EXPECT_EQ(back, setup);
     validate_schema(r.meta_path);
+}
+
+}  // namespace
+}  // namespace hb
+
+// ---- hetbench record (the command line) ----
+
+namespace hb {
+namespace {
+
+// A raw cf32 file whose samples carry their index (I = index, Q = 0.25).
+std::filesystem::path index_file(const TempDir& d, std::size_t n) {
+    std::string b(n * 8, '\0');
+    for (std::size_t i = 0; i < n; ++i) {
+        const float iq[2] = {static_cast<float>(i), 0.25f};
+        std::memcpy(b.data() + 8 * i, iq, 8);
+    }
+    const auto p = d.file("index.cf32");
+    test::write_file(p, b);
+    return p;
+}
+
+pid_t spawn_hetbench(const std::vector<std::string>& args, const std::filesystem::path& log) {
+    const pid_t pid = ::fork();
+    if (pid == 0) {
+        const int fd = ::open(log.c_str(), O_WRONLY | O_CREAT | O_TRUNC, 0600);
+        ::dup2(fd, 1);
+        ::dup2(fd, 2);
+        std::vector<std::string> all{test::hetbench_exe().string()};
+        all.insert(all.end(), args.begin(), args.end());
+        std::vector<char*> argv;
+        for (auto& a : all) argv.push_back(a.data());
+        argv.push_back(nullptr);
+        ::execv(argv[0], argv.data());
+        ::_exit(127);
+    }
+    return pid;
+}
+
+// Waits (up to 10 s) until the recording's metadata describes at least `n` samples.
+bool wait_for_flush(const std::string& meta, std::uint64_t n) {
+    for (int i = 0; i < 1000; ++i) {
+        try {
+            if (read_sigmf_meta(meta).sample_count.value_or(0) >= n) return true;
+        } catch (const InputError&) {  // not written yet
+        }
+        std::this_thread::sleep_for(std::chrono::milliseconds(10));
+    }
+    return false;
+}
+
+TEST(RecordCommand, RecordsARecordingAndReportsIt) {
+    TempDir d;
+    const auto raw = index_file(d, 50000);
+    const auto out = d.file("rec");
+    auto r = test::run_hetbench({"record", "--source", raw.string(), "--input-format", "cf32_le", "--rate", "250k",
+                                 "--frequency", "7.05M", "--duration", "0.1", "--out", out.string()});
+    ASSERT_EQ(r.exit_code, 0) << r.out << r.err;
+    EXPECT_NE(r.out.find("recorded 25000 samples"), std::string::npos) << r.out;
+    EXPECT_NE(r.out.find("rec.sigmf-data"), std::string::npos) << r.out;
+    EXPECT_NE(r.out.find("0 annotated"), std::string::npos) << r.out;
+    const SigmfMeta m = read_sigmf_meta(out.string() + ".sigmf-meta");
+    EXPECT_EQ(m.sample_rate_hz, 250e3);
+    EXPECT_EQ(m.captures[0].frequency_hz, 7.05e6);
+    EXPECT_EQ(m.sample_count, 25000u);
+    validate_schema(out.string() + ".sigmf-meta");
+    // Re-record the recording as ci16 (its .sigmf-data names the pair).
+    r = test::run_hetbench({"record", "--source", out.string() + ".sigmf-data", "--format", "ci16_le", "--out",
+                            d.file("again").string()});
+    ASSERT_EQ(r.exit_code, 0) << r.out << r.err;
+    EXPECT_EQ(read_sigmf_meta(d.file("again.sigmf-meta").string()).format, *parse_datatype("ci16_le"));
+    EXPECT_EQ(std::filesystem::file_size(d.file("again.sigmf-data")), 25000u * 4);
+}
+
+TEST(RecordCommand, BadInputExitsTwoWithAClearMessage) {
+    TempDir d;
+    const auto raw = index_file(d, 100);
+    auto r = test::run_hetbench({"record", "--source", raw.string(), "--rate", "1M", "--frequency", "0", "--out",
+                                 d.file("x").string()});
+    EXPECT_EQ(r.exit_code, 2);
+    EXPECT_NE(r.err.find("index.cf32"), std::string::npos) << r.err;
+    EXPECT_NE(r.err.find("format"), std::string::npos) << r.err;
+    r = test::run_hetbench({"record", "--out", d.file("x").string()});
+    EXPECT_EQ(r.exit_code, 2);
+    EXPECT_NE(r.err.find("--source"), std::string::npos) << r.err;
+    r = test::run_hetbench({"record", "--source", raw.string(), "--format", "cu8", "--out", d.file("x").string()});
+    EXPECT_EQ(r.exit_code, 2);
+    r = test::run_hetbench({"record", "--source", raw.string(), "--input-format", "cf32_le", "--rate", "fast",
+                            "--frequency", "0", "--out", d.file("x").string()});
+    EXPECT_EQ(r.exit_code, 2);
+    EXPECT_NE(r.err.find("--rate"), std::string::npos) << r.err;
+    r = test::run_hetbench({"record", "--session", d.file("none.toml").string(), "--out", d.file("x").string()});
+    EXPECT_EQ(r.exit_code, 2);
+    EXPECT_NE(r.err.find("none.toml"), std::string::npos) << r.err;
+}
+
+TEST(RecordCommand, RecordsTheSessionsFirstSourceAndEmbedsTheSession) {
+    TempDir d;
+    index_file(d, 10000);
+    test::write_file(d.file("bench.toml"), R"([bench]
+name = "invented 40 m bench"
+[[source]]
+kind = "recording"
+path = "index.cf32"
+format = "cf32_le"
+sample_rate_hz = 48000
+frequency_hz = "7.1M"
+[plan]
+wanted_hz = 7.1e6
+if_hz = 455e3
+if_bandwidth_hz = 3e3
+)");
+    const auto r = test::run_hetbench({"record", "--session", d.file("bench.toml").string(), "--out", d.file("s").string()});
+    ASSERT_EQ(r.exit_code, 0) << r.out << r.err;
+    const SigmfMeta m = read_sigmf_meta(d.file("s.sigmf-meta").string());
+    EXPECT_EQ(m.sample_count, 10000u);
+    ASSERT_TRUE(m.setup);
+    EXPECT_EQ((*m.setup)["bench"]["name"], "invented 40 m bench");
+    EXPECT_EQ(setup_from_json(*m.setup, "s.sigmf-meta").plan.if_hz, 455e3);
+}
+
+// A real kill (SIGKILL, no chance to close): the recording reads up to its last flush, sample-exact.
+TEST(RecordCommand, KilledRecordingIsReadableUpToItsLastFlush) {
+    TempDir d;
+    const auto raw = index_file(d, 400000);
+    const std::string out = d.file("killed").string();
+    const pid_t pid = spawn_hetbench({"record", "--source", raw.string(), "--input-format", "cf32_le", "--rate", "200k",
+                                      "--frequency", "1M", "--realtime", "--flush-interval", "0.05", "--duration", "30",
+                                      "--out", out},
+                                     d.file("log"));
+    ASSERT_GT(pid, 0);
+    const bool flushed = wait_for_flush(out + ".sigmf-meta", 20000);
+    ::kill(pid, SIGKILL);
+    int status = 0;
+    ::waitpid(pid, &status, 0);
+    ASSERT_TRUE(flushed) << test::read_file(d.file("log"));
+    ASSERT_TRUE(WIFSIGNALED(status));
+    const SigmfMeta m = read_sigmf_meta(out + ".sigmf-meta");
+    ASSERT_TRUE(m.sample_count);
+    SourceSpec spec;
+    spec.kind = SourceKind::recording;
+    spec.path = out + ".sigmf-data";
+    const auto got = test::read_all(*open_recording(spec, hb::Setup{})).samples;
+    ASSERT_EQ(got.size(), *m.sample_count);
+    ASSERT_GE(got.size(), 20000u);
+    ASSERT_LT(got.size(), 400000u);
+    for (std::size_t i = 0; i < got.size(); ++i) ASSERT_EQ(got[i], cf32(static_cast<float>(i), 0.25f)) << i;
+}
+
+// Ctrl-C (SIGINT) ends the recording cleanly: exit 0, complete metadata.
+TEST(RecordCommand, InterruptClosesTheRecording) {
+    TempDir d;
+    const auto raw = index_file(d, 400000);
+    const std::string out = d.file("intr").string();
+    const pid_t pid = spawn_hetbench({"record", "--source", raw.string(), "--input-format", "cf32_le", "--rate", "200k",
+                                      "--frequency", "1M", "--realtime", "--flush-interval", "0.05", "--out", out},
+                                     d.file("log"));
+    ASSERT_GT(pid, 0);
+    const bool flushed = wait_for_flush(out + ".sigmf-meta", 10000);
+    ::kill(pid, SIGINT);
+    int status = 0;
+    ::waitpid(pid, &status, 0);
+    ASSERT_TRUE(flushed);
+    ASSERT_TRUE(WIFEXITED(status)) << test::read_file(d.file("log"));
+    EXPECT_EQ(WEXITSTATUS(status), 0) << test::read_file(d.file("log"));
+    EXPECT_NE(test::read_file(d.file("log")).find("stopped by signal"), std::string::npos);
+    const SigmfMeta m = read_sigmf_meta(out + ".sigmf-meta");
+    EXPECT_EQ(m.sample_count.value_or(0) * 8, std::filesystem::file_size(out + ".sigmf-data"));
 }
 
 }  // namespace
