@@ -262,6 +262,9 @@ std::unique_ptr<SampleSource> open_sigmf(const SourceSpec& spec, const std::stri
     if (!meta.dataset.empty())
         paths.data = (std::filesystem::path(paths.meta).parent_path() / meta.dataset).string();
     const double rate = detail::pick_rate(meta.sample_rate_hz, spec, paths.meta);
+    if (!spec.format.empty() && spec.format != datatype_name(meta.format))
+        throw InputError(paths.meta + ": the recording's datatype is " + datatype_name(meta.format) +
+                         " but the source says format = \"" + spec.format + "\"; format is for raw files only: remove it");
 
     std::uint64_t size = 0;
     const int fd = open_regular(paths.data, size);

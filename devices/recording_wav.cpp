@@ -35,6 +35,9 @@ class WavReader final : public detail::RecordingReader {
 public:
     WavReader(const SourceSpec& spec, const std::string& path, const RecordingOptions& options)
         : RecordingReader(spec, options) {
+        if (!spec.format.empty())
+            throw InputError(path + ": format = \"" + spec.format +
+                             "\" is for raw files; a WAV file states its own sample format: remove it");
         SF_INFO sfi{};
         file_ = sf_open(path.c_str(), SFM_READ, &sfi);
         if (!file_) throw InputError(path + ": cannot read as WAV: " + sf_strerror(nullptr));

@@ -366,6 +366,10 @@ TEST(SigmfRead, SessionValuesThatContradictTheFileAreErrors) {
     EXPECT_NE(msg.find("sample rate"), std::string::npos) << msg;
     spec.sample_rate_hz = 1e6;  // agreeing is fine
     EXPECT_NO_THROW(open_path(r.meta, spec));
+    spec.format = "ci16_le";  // a raw file's setting, contradicting the metadata
+    msg = error_of([&] { open_path(r.meta, spec); });
+    EXPECT_NE(msg.find("cf32_le"), std::string::npos) << msg;
+    EXPECT_NE(msg.find("raw files only"), std::string::npos) << msg;
 }
 
 // The writer's output: valid against the published schema, the datatype grammar, RFC 3339 times, and it
