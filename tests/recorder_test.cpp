@@ -104,11 +104,9 @@ public:
     bool stalled = false;
     std::mutex m;
     std::condition_variable cv;
-    void release() {
-        {
-            std::lock_guard lk(m);
-            stalled = false;
-        }
+    void release() {  // notifies under the lock: the sink may be destroyed as soon as the writer moves on
+        std::lock_guard lk(m);
+        stalled = false;
         cv.notify_all();
     }
     bool write(const std::byte* d, std::size_t n, std::string& error) override {
