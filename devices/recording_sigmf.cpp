@@ -107,13 +107,26 @@ SigmfPaths sigmf_paths(const std::string& path) {
     return {base + ".sigmf-meta", base + ".sigmf-data"};
 }
 
+namespace {
+SigmfMeta parse_meta(const json& root, const std::string& name);
+}
+
 SigmfMeta parse_sigmf_meta(const std::string& text, const std::string& name) {
     json root;
     try {
         root = json::parse(text);
-    } catch (const json::parse_error& e) {
+    } catch (const json::exception& e) {  // parse errors, and numbers too large for a double
         throw InputError(name + ": not valid JSON: " + e.what());
     }
+    try {
+        return parse_meta(root, name);
+    } catch (const json::exception& e) {  // a type check missed above: still bad input, never a crash
+        throw InputError(name + ": " + e.what());
+    }
+}
+
+namespace {
+SigmfMeta parse_meta(const json& root, const std::string& name) {
     if (!root.is_object()) throw InputError(name + ": expected a JSON object with global, captures and annotations");
     for (const char* k : {"global", "captures", "annotations"})
         if (!root.contains(k))
@@ -238,6 +251,7 @@ SigmfMeta parse_sigmf_meta(const std::string& text, const std::string& name) {
     }
     return m;
 }
+}  // namespace
 
 SigmfMeta read_sigmf_meta(const std::string& meta_path) {
     std::error_code ec;

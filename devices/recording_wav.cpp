@@ -39,21 +39,18 @@ public:
             throw InputError(path + ": format = \"" + spec.format +
                              "\" is for raw files; a WAV file states its own sample format: remove it");
         SF_INFO sfi{};
-        file_ = sf_open(path.c_str(), SFM_READ, &sfi);
+        file_.reset(sf_open(path.c_str(), SFM_READ, &sfi));  // closed by file_ on every exit, throws included
         if (!file_) throw InputError(path + ": cannot read as WAV: " + sf_strerror(nullptr));
         if ((sfi.format & SF_FORMAT_TYPEMASK) != SF_FORMAT_WAV && (sfi.format & SF_FORMAT_TYPEMASK) != SF_FORMAT_WAVEX &&
             (sfi.format & SF_FORMAT_TYPEMASK) != SF_FORMAT_RF64) {
-            sf_close(file_);
             throw InputError(path + ": named .wav but libsndfile reads it as another format (major type 0x" +
                              std::to_string((sfi.format & SF_FORMAT_TYPEMASK) >> 16) + ")");
         }
         if (sfi.channels < 1 || sfi.channels > 2) {
-            sf_close(file_);
             throw InputError(path + ": has " + std::to_string(sfi.channels) +
                              " channels, expected 1 (a real signal) or 2 (I left, Q right)");
         }
         if (sfi.samplerate <= 0 || sfi.frames <= 0) {
-            sf_close(file_);
             throw InputError(path + ": holds no samples (" + std::to_string(sfi.frames) + " frames at " +
                              std::to_string(sfi.samplerate) + " Hz)");
         }
@@ -69,16 +66,15 @@ public:
                          subtype_name(sfi.format);
         details_ = {"WAV", path, subtype_name(sfi.format), std::move(warnings), std::nullopt};
     }
-    ~WavReader() override { sf_close(file_); }
     WavReader(const WavReader&) = delete;
     WavReader& operator=(const WavReader&) = delete;
 
 protected:
     std::size_t fill(std::span<cf32> out, std::string& error) override {
         const std::size_t n = std::min(out.size(), buffer_.size() / static_cast<std::size_t>(channels_));
-        const sf_count_t got = sf_readf_float(file_, buffer_.data(), static_cast<sf_count_t>(n));
-        if (got < 0 || (got == 0 && sf_error(file_) != SF_ERR_NO_ERROR)) {
-            error = details_.data_path + ": read failed: " + sf_strerror(file_);
+        const sf_count_t got = sf_readf_float(file_.get(), buffer_.data(), static_cast<sf_count_t>(n));
+        if (got < 0 || (got == 0 && sf_error(file_.get()) != SF_ERR_NO_ERROR)) {
+            error = details_.data_path + ": read failed: " + sf_strerror(file_.get());
             return 0;
         }
         const auto k = static_cast<std::size_t>(got);
@@ -89,15 +85,15 @@ protected:
         return k;
     }
     bool restart(std::string& error) override {
-        if (sf_seek(file_, 0, SEEK_SET) < 0) {
-            error = details_.data_path + ": cannot rewind: " + sf_strerror(file_);
+        if (sf_seek(file_.get(), 0, SEEK_SET) < 0) {
+            error = details_.data_path + ": cannot rewind: " + sf_strerror(file_.get());
             return false;
         }
         return true;
     }
 
 private:
-    SNDFILE* file_ = nullptr;
+    std::unique_ptr<SNDFILE, int (*)(SNDFILE*)> file_{nullptr, sf_close};
     int channels_ = 2;
     std::vector<float> buffer_;
 };

@@ -4,6 +4,7 @@
 
 #include <cmath>
 #include <fstream>
+#include <random>
 #include <regex>
 
 #include "devices/recording.hpp"
@@ -451,6 +452,30 @@ wanted_hz = 100.1e6
 if_hz = 10.7e6
 if_bandwidth_hz = 200e3
 )", "rt.sigmf-meta"));
+}
+
+// Bad input never crashes: every prefix of a valid metadata file and seeded random byte changes either
+// parse or raise InputError (nothing else).
+TEST(SigmfRead, CorruptMetadataOnlyEverRaisesInputError) {
+    const std::string good = sigmf_meta_to_json(sample_meta()).dump(1);
+    auto outcome = [](const std::string& text) {
+        try {
+            parse_sigmf_meta(text, "fuzz.sigmf-meta");
+            return 0;
+        } catch (const InputError& e) {
+            return std::string(e.what()).find("fuzz.sigmf-meta") != std::string::npos ? 1 : 2;
+        } catch (...) {
+            return 3;
+        }
+    };
+    EXPECT_EQ(outcome(good), 0);
+    for (std::size_t n = 0; n < good.size(); ++n) ASSERT_EQ(outcome(good.substr(0, n)), 1) << "prefix " << n;
+    std::mt19937 rng(7);
+    for (int i = 0; i < 2000; ++i) {
+        std::string t = good;
+        for (int k = 0; k < 3; ++k) t[rng() % t.size()] = static_cast<char>(rng() % 128);
+        ASSERT_LE(outcome(t), 1) << t;
+    }
 }
 
 // POSIX time 0 and 1e9 s are 1970-01-01T00:00:00Z and 2001-09-09T01:46:40Z (derivable: 11 574 days
