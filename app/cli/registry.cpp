@@ -8,6 +8,7 @@ void register_all(CLI::App& app, int& rc) {
     register_check(app, rc);
     register_plan(app, rc);
     register_devices(app, rc);
+    register_record(app, rc);
 }
 
 }  // namespace hb::cli
