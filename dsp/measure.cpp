@@ -300,8 +300,8 @@ Observation observe(const CheckContext& c, const ExpectedLine& line) {
     const double lobe_hz = c.r.mainlobe_halfwidth_bins * s.bin_hz();
     const double edge = c.usable_half_hz - lobe_hz;
     if (std::abs(line.freq_hz - s.center_hz) > edge) {
-        res.note = "outside the analysed span " + format_frequency(s.center_hz - edge) + " to " +
-                   format_frequency(s.center_hz + edge);
+        res.note = "outside the analysed span " + format_frequency(s.center_hz - edge, 6) + " to " +
+                   format_frequency(s.center_hz + edge, 6);
         return o;
     }
     const double half = std::max(s.bin_hz(), c.opt.search_rbw * s.rbw_hz + std::abs(line.m) * c.opt.lo_uncertainty_hz +
