@@ -28,6 +28,7 @@ constexpr double kCutQuantile = 0.999;
 // μ from a set of bins: median / median-of-distribution, then again without the bins above the first
 // pass's 99.9 % noise quantile. `v` is reordered.
 double robust_mu(std::vector<double>& v, const BinStatistics& st) {
+    v.erase(std::remove_if(v.begin(), v.end(), [](double p) { return !std::isfinite(p); }), v.end());
     if (v.empty()) return kNaN;
     const double mu1 = median_of(v) / st.median();
     if (!(mu1 > 0.0)) return mu1;
@@ -117,13 +118,16 @@ double profile_at(const std::vector<double>& profile, const Spectrum& s, double 
 // ---- Noise floor -------------------------------------------------------------------------------------------
 
 NoiseFloor noise_floor(const Spectrum& s, double low_hz, double high_hz) {
+    return noise_floor(s, bin_statistics(s), low_hz, high_hz);
+}
+
+NoiseFloor noise_floor(const Spectrum& s, const BinStatistics& st, double low_hz, double high_hz) {
     NoiseFloor f;
     if (s.power.empty()) return f;
     const auto [lo, hi] = bin_range(s, low_hz, high_hz);
     if (hi < lo) return f;
     std::vector<double> v(s.power.begin() + lo, s.power.begin() + hi + 1);
-    const BinStatistics st = bin_statistics(s);
-    f.bins = static_cast<int>(v.size());
+    f.bins = static_cast<int>(std::count_if(v.begin(), v.end(), [](double p) { return std::isfinite(p); }));
     f.power_per_bin = robust_mu(v, st);
     f.low_hz = s.freq_of_bin(static_cast<double>(lo));
     f.high_hz = s.freq_of_bin(static_cast<double>(hi));
@@ -137,11 +141,12 @@ NoiseFloor noise_floor(const Spectrum& s, double low_hz, double high_hz) {
     return f;
 }
 
-std::vector<double> noise_floor_profile(const Spectrum& s) {
+std::vector<double> noise_floor_profile(const Spectrum& s) { return noise_floor_profile(s, bin_statistics(s)); }
+
+std::vector<double> noise_floor_profile(const Spectrum& s, const BinStatistics& st) {
     const std::size_t n = s.power.size();
     std::vector<double> out(n, kNaN);
     if (n == 0) return out;
-    const BinStatistics st = bin_statistics(s);
     const std::size_t block = std::clamp<std::size_t>(n / 32, 16, 512);
     const std::size_t blocks = (n + block - 1) / block;
     std::vector<double> centre(blocks), level_db(blocks), v;
@@ -204,8 +209,8 @@ Sfdr sfdr(const Spectrum& s, const Tone& carrier, double false_alarm) {
     const std::size_t n = s.power.size();
     if (n == 0 || !carrier.found || !(carrier.power > 0.0)) return out;
     const WindowResponse r = make_window_response(s.spec.window, s.spec.kaiser_beta, n);
-    const std::vector<double> profile = noise_floor_profile(s);
     const BinStatistics st = bin_statistics(s);
+    const std::vector<double> profile = noise_floor_profile(s, st);
     const double carrier_bin = s.bin_of_freq(carrier.freq_hz);
     const std::vector<StrongPeak> strong{{carrier_bin, carrier.power}};
     long long best = -1;
@@ -368,13 +373,14 @@ PlanCheck check_plan(const Spectrum& s, std::span<const ExpectedLine> lines, con
                          ", expected a fraction above 0 and at most 1");
 
     const std::size_t n = s.power.size();
-    CheckContext c{s, opt, make_window_response(s.spec.window, s.spec.kaiser_beta, n), bin_statistics(s),
-                   noise_floor_profile(s), 0.5 * s.sample_rate_hz * opt.usable_fraction};
+    const BinStatistics st = bin_statistics(s);
+    CheckContext c{s, opt, make_window_response(s.spec.window, s.spec.kaiser_beta, n), st, noise_floor_profile(s, st),
+                   0.5 * s.sample_rate_hz * opt.usable_fraction};
     PlanCheck out;
     out.rbw_hz = s.rbw_hz;
     out.unit = s.spec.unit;
     out.calibration_db = s.spec.calibration_db;
-    out.floor = noise_floor(s, s.center_hz - c.usable_half_hz, s.center_hz + c.usable_half_hz);
+    out.floor = noise_floor(s, st, s.center_hz - c.usable_half_hz, s.center_hz + c.usable_half_hz);
 
     std::vector<Observation> obs;
     obs.reserve(lines.size());

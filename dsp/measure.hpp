@@ -36,12 +36,15 @@ struct NoiseFloor {
     double low_hz = kNaN, high_hz = kNaN;
 };
 
-// Over [low_hz, high_hz] (clipped to the span); NaN limits mean the whole span.
+// Over [low_hz, high_hz] (clipped to the span); NaN limits mean the whole span. Non-finite bins are left out.
 NoiseFloor noise_floor(const Spectrum& s, double low_hz = kNaN, double high_hz = kNaN);
+// The same with the bin statistics already at hand (bin_statistics(s) builds the window once more).
+NoiseFloor noise_floor(const Spectrum& s, const BinStatistics& st, double low_hz, double high_hz);
 
 // μ for every bin: the floor above taken in blocks of N/32 bins (16…512), interpolated in dB between block
 // centres, so it follows IF-filter shapes and skirts. Size s.size().
 std::vector<double> noise_floor_profile(const Spectrum& s);
+std::vector<double> noise_floor_profile(const Spectrum& s, const BinStatistics& st);
 
 // ---- Tones -------------------------------------------------------------------------------------------------
 

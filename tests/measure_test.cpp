@@ -416,6 +416,22 @@ TEST(PlanCheck, NeedsExactlyOneWantedLine) {
     EXPECT_THROW(check_plan(s, one, bad), InputError);
 }
 
+TEST(PlanCheck, SurvivesNonFiniteBins) {
+    // A spectrum with NaN and infinite bins (a broken input that slipped through): no crash, a finite floor
+    // from the remaining bins, and the strong tone still measured.
+    const double fs = 1e6;
+    const AnalyzerSpec a = analyzer(4096, WindowType::hann, 4);
+    Spectrum s = analyse(a, 0.0, fs, make_signal(samples_for(a, 4), fs, {{1e5, -20.0}}, -130.0, 90));
+    for (std::size_t k = 0; k < s.power.size(); k += 97) s.power[k] = std::nan("");
+    s.power[5] = std::numeric_limits<double>::infinity();
+    const std::vector<ExpectedLine> lines{{"RF−LO", 1, -1, LineKind::wanted, 1e5, kNaN, kNaN},
+                                          {"x", 2, -2, LineKind::spur, 2e5, kNaN, -60}};
+    const PlanCheck pc = check_plan(s, lines);
+    EXPECT_NEAR(pc.floor.dbfs_per_hz, -130.0, 0.5);
+    EXPECT_EQ(pc.floor.bins, 4096 - 43 - 1);
+    EXPECT_NEAR(pc.wanted.level_dbfs, -20.0, 0.3);
+}
+
 TEST(PlanCheck, LimitsFromThePlan) {
     PlanLimits l;
     l.spur_dbc = -55;

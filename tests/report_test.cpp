@@ -112,11 +112,20 @@ TEST(Report, JsonCarriesTheContractFields) {
 }
 
 TEST(Report, JsonHasNoNaNForAnyInput) {
-    // A spectrum of zeros (every level −inf), and a check whose every number is NaN or infinite.
+    // A spectrum of zeros (every level −inf), one with NaN and infinite bins, and a check whose every number is
+    // NaN or infinite.
     const Fixture f;
     Spectrum zero = f.spectrum;
     std::fill(zero.power.begin(), zero.power.end(), 0.0);
     const PlanCheck zc = check_plan(zero, f.lines);
+    Spectrum broken = f.spectrum;
+    for (std::size_t k = 0; k < broken.power.size(); k += 3)
+        broken.power[k] = k % 2 ? std::nan("") : std::numeric_limits<double>::infinity();
+    const PlanCheck bc = check_plan(broken, f.lines);
+    const PlanReport br{f.setup, broken, bc, std::nullopt, "", "", ""};
+    EXPECT_FALSE(has_bad_number(plan_report_json(br).dump()));
+    EXPECT_NO_THROW((void)plan_report_png(br, 400, 300));
+    EXPECT_NO_THROW((void)plan_report_html(br));
     PlanCheck junk;
     junk.wanted.line.freq_hz = std::numeric_limits<double>::infinity();
     junk.wanted.level_dbfs = -std::numeric_limits<double>::infinity();
@@ -252,6 +261,14 @@ TEST(Report, PngShowsTheTraceAndTheFailingMarker) {
     EXPECT_GT(count(plot::kUnexplained), 10);   // the unexplained peak
     EXPECT_GT(count(plot::kLimit), 10);         // limit bars
     stbi_image_free(img);
+
+    // Labels outside printable ASCII (the segment font indexes a table by character: sanitizer builds catch a
+    // stray byte) are drawn with substitutes.
+    PlanCheck odd = f.check;
+    odd.lines[0].line.label = "2LO\u22122RF \u00bd \U0001F4E1 \x01\x7f end";
+    odd.wanted.line.label = "\xff\xfe";
+    const PlanReport r{f.setup, f.spectrum, odd, std::nullopt, "t\u00e9st \u2264", "", ""};
+    EXPECT_GT(plan_report_png(r, 800, 400).size(), 1000u);
 }
 
 TEST(Report, WritesAllFourFilesAndNamesAnUnwritablePath) {

@@ -65,13 +65,14 @@ Plot make_plot(const PlanReport& r, int columns) {
     const std::vector<double> profile = n ? noise_floor_profile(s) : std::vector<double>{};
     for (std::size_t k = 0; k < n; ++k) {
         const auto col = std::min<std::size_t>(static_cast<std::size_t>(columns) - 1, k * static_cast<std::size_t>(columns) / n);
+        if (!std::isfinite(s.power[k])) continue;  // a broken bin is not drawn
         const float db = static_cast<float>(db_from_power(std::max(s.power[k], 1e-40)) + offset);
         p.trace[col] = std::max(p.trace[col], db);
     }
     for (int col = 0; col < columns && n; ++col) {
         const std::size_t k = (static_cast<std::size_t>(col) * n + n / 2) / static_cast<std::size_t>(columns);
-        p.floor[static_cast<std::size_t>(col)] =
-            static_cast<float>(db_from_power(std::max(profile[std::min(k, n - 1)], 1e-40)) + offset);
+        const double mu = profile[std::min(k, n - 1)];
+        if (std::isfinite(mu)) p.floor[static_cast<std::size_t>(col)] = static_cast<float>(db_from_power(std::max(mu, 1e-40)) + offset);
     }
 
     // Markers: the wanted, every expected line inside the span, every unexplained peak.

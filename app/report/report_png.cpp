@@ -40,11 +40,15 @@ struct Canvas {
     }
     void vline(int x, int y0, int y1, Rgb c, int dash = 0) {
         if (y0 > y1) std::swap(y0, y1);
+        y0 = std::max(y0, 0);
+        y1 = std::min(y1, h - 1);
         for (int y = y0; y <= y1; ++y)
             if (dash == 0 || (y / dash) % 2 == 0) set(x, y, c);
     }
     void hline(int x0, int x1, int y, Rgb c, int dash = 0) {
         if (x0 > x1) std::swap(x0, x1);
+        x0 = std::max(x0, 0);
+        x1 = std::min(x1, w - 1);
         for (int x = x0; x <= x1; ++x)
             if (dash == 0 || (x / dash) % 2 == 0) set(x, y, c);
     }
@@ -83,8 +87,8 @@ std::string ascii(std::string_view s) {
     return out;
 }
 
-int text_width(const std::string& t, int scale) {
-    std::string buf = t;
+int text_width(std::string_view t, int scale) {
+    std::string buf = ascii(t);
     return stb_easy_font_width(buf.data()) * scale;
 }
 
@@ -124,8 +128,14 @@ std::vector<std::uint8_t> plan_report_png(const PlanReport& r, int width, int he
     const int pw = width - left - right, ph = height - top - bottom;
     const plot::Plot p = plot::make_plot(r, pw);
     Canvas cv(width, height, plot::kPaper);
-    auto X = [&](double hz) { return left + static_cast<int>(std::lround(p.x_of(hz, pw))); };
-    auto Y = [&](double db) { return top + static_cast<int>(std::lround(p.y_of(std::clamp(db, p.db_lo, p.db_hi), ph))); };
+    // Coordinates stay on the canvas whatever the numbers (lround of NaN or of huge values is undefined).
+    auto X = [&](double hz) {
+        const double x = p.x_of(hz, pw);
+        return left + (std::isfinite(x) ? static_cast<int>(std::lround(std::clamp(x, -8.0, pw + 8.0))) : 0);
+    };
+    auto Y = [&](double db) {
+        return top + (std::isfinite(db) ? static_cast<int>(std::lround(p.y_of(std::clamp(db, p.db_lo, p.db_hi), ph))) : ph - 1);
+    };
 
     cv.rect(left, top, left + pw - 1, top + ph - 1, {255, 255, 255});
     for (const auto& t : p.y_ticks) {
