@@ -78,9 +78,12 @@ double BinStatistics::cdf(double x) const {
     if (!(x > 0.0)) return 0.0;
     switch (mode) {
         case Averaging::rms:
-        case Averaging::exponential: return regularized_gamma_p(k, k * x);
-        case Averaging::max_hold: return std::pow(-std::expm1(-x), k);
-        case Averaging::min_hold: return -std::expm1(-k * x);
+        case Averaging::exponential:
+            return regularized_gamma_p(k, k * x);
+        case Averaging::max_hold:
+            return std::pow(-std::expm1(-x), k);
+        case Averaging::min_hold:
+            return -std::expm1(-k * x);
     }
     return 0.0;
 }
@@ -88,10 +91,13 @@ double BinStatistics::cdf(double x) const {
 double BinStatistics::quantile(double p) const {
     p = std::clamp(p, 1e-300, 1.0 - 1e-16);
     switch (mode) {
-        case Averaging::max_hold: return -std::log(-std::expm1(std::log(p) / k));
-        case Averaging::min_hold: return -std::log1p(-p) / k;
+        case Averaging::max_hold:
+            return -std::log(-std::expm1(std::log(p) / k));
+        case Averaging::min_hold:
+            return -std::log1p(-p) / k;
         case Averaging::rms:
-        case Averaging::exponential: break;
+        case Averaging::exponential:
+            break;
     }
     double lo = 0.0, hi = 1.0;
     while (cdf(hi) < p && hi < 1e6) {
@@ -107,10 +113,13 @@ double BinStatistics::quantile(double p) const {
 
 double BinStatistics::mean() const {
     switch (mode) {
-        case Averaging::max_hold: return harmonic(k);
-        case Averaging::min_hold: return 1.0 / k;
+        case Averaging::max_hold:
+            return harmonic(k);
+        case Averaging::min_hold:
+            return 1.0 / k;
         case Averaging::rms:
-        case Averaging::exponential: return 1.0;
+        case Averaging::exponential:
+            return 1.0;
     }
     return 1.0;
 }

@@ -4,7 +4,8 @@
 // One periodogram bin of complex Gaussian noise is exponential (χ² with 2 degrees of freedom) with mean μ,
 // the true noise power per bin. The estimate combines frames:
 //   rms, exponential  a weighted mean Σ w_i·P_i. Overlapped frames are correlated: bins of frames s samples
-//                     apart have correlation c(s)², c the window's overlap correlation (Welch 1967). The
+//                     apart have correlation c(s)², c the window's overlap correlation (P. D. Welch, IEEE
+//                     Trans. Audio Electroacoust. AU-15(2):70–73, 1967; from memory, and derivable). The
 //                     estimate is taken as μ·χ²_ν/ν with ν = 2·K_eff degrees of freedom, matched to its mean
 //                     and variance, K_eff = 1 / Σ_i Σ_j w_i·w_j·c(|i − j|·hop)² (Welch 1967's equivalent
 //                     degrees of freedom). For an average of K frames without overlap K_eff = K exactly.
@@ -44,8 +45,9 @@ BinStatistics bin_statistics(const Spectrum& s);
 BinStatistics bin_statistics(Averaging mode, std::int64_t frames, int averages, std::span<const double> overlap_corr);
 
 // Regularised lower incomplete gamma function P(a, x) = γ(a, x)/Γ(a): series below x = a + 1, Legendre's
-// continued fraction above (Abramowitz & Stegun 1964, 6.5.29 and 6.5.31); Wilson–Hilferty's cube-root normal
-// form (1931) for a > 2·10⁴, where the two lose precision.
+// continued fraction above (Abramowitz & Stegun, Handbook of Mathematical Functions, 1964, 6.5.29 and 6.5.31;
+// equation numbers from memory); Wilson & Hilferty's cube-root normal form (1931) for a > 2·10⁴, where the two
+// lose precision. Checked against scipy.special.gammainc in tests/measure_test.cpp.
 double regularized_gamma_p(double a, double x);
 
 }  // namespace hb

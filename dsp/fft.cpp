@@ -46,7 +46,9 @@ void Fft::release() {
     in_ = out_ = nullptr;
 }
 
-Fft::~Fft() { release(); }
+Fft::~Fft() {
+    release();
+}
 
 Fft::Fft(Fft&& o) noexcept
     : n_(std::exchange(o.n_, 0)),
@@ -65,6 +67,8 @@ Fft& Fft::operator=(Fft&& o) noexcept {
     return *this;
 }
 
-void Fft::execute() { fftwf_execute(static_cast<fftwf_plan>(plan_)); }
+void Fft::execute() {
+    fftwf_execute(static_cast<fftwf_plan>(plan_));
+}
 
 }  // namespace hb

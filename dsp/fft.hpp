@@ -9,7 +9,7 @@
 namespace hb {
 
 class Fft {
-public:
+  public:
     enum class Effort { estimate, measure };
     enum class Direction { forward, inverse };
 
@@ -30,7 +30,7 @@ public:
     const std::complex<float>* out() const { return out_; }
     void execute();  // out = DFT(in)
 
-private:
+  private:
     void release();
     std::size_t n_ = 0;
     std::complex<float>* in_ = nullptr;

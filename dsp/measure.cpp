@@ -47,7 +47,9 @@ std::pair<long long, long long> bin_range(const Spectrum& s, double low_hz, doub
     return {std::max(lo, 0LL), std::min(hi, n - 1)};
 }
 
-int lobe_bins(const WindowResponse& r) { return static_cast<int>(std::ceil(r.mainlobe_halfwidth_bins)) + 1; }
+int lobe_bins(const WindowResponse& r) {
+    return static_cast<int>(std::ceil(r.mainlobe_halfwidth_bins)) + 1;
+}
 
 bool is_local_max(const Spectrum& s, long long k) {
     const std::size_t n = s.power.size();
@@ -141,7 +143,9 @@ NoiseFloor noise_floor(const Spectrum& s, const BinStatistics& st, double low_hz
     return f;
 }
 
-std::vector<double> noise_floor_profile(const Spectrum& s) { return noise_floor_profile(s, bin_statistics(s)); }
+std::vector<double> noise_floor_profile(const Spectrum& s) {
+    return noise_floor_profile(s, bin_statistics(s));
+}
 
 std::vector<double> noise_floor_profile(const Spectrum& s, const BinStatistics& st) {
     const std::size_t n = s.power.size();
@@ -236,36 +240,51 @@ Sfdr sfdr(const Spectrum& s, const Tone& carrier, double false_alarm) {
 
 std::string_view to_string(LineKind k) {
     switch (k) {
-        case LineKind::wanted: return "wanted";
-        case LineKind::image: return "image";
-        case LineKind::half_if: return "half-if";
-        case LineKind::if_feedthrough: return "if-feedthrough";
-        case LineKind::lo_feedthrough: return "lo-feedthrough";
-        case LineKind::rf_feedthrough: return "rf-feedthrough";
-        case LineKind::spur: return "spur";
+        case LineKind::wanted:
+            return "wanted";
+        case LineKind::image:
+            return "image";
+        case LineKind::half_if:
+            return "half-if";
+        case LineKind::if_feedthrough:
+            return "if-feedthrough";
+        case LineKind::lo_feedthrough:
+            return "lo-feedthrough";
+        case LineKind::rf_feedthrough:
+            return "rf-feedthrough";
+        case LineKind::spur:
+            return "spur";
     }
     return "?";
 }
 
 std::string_view to_string(LineStatus st) {
     switch (st) {
-        case LineStatus::pass: return "pass";
-        case LineStatus::fail: return "fail";
-        case LineStatus::below_floor: return "below-floor";
-        case LineStatus::not_observable: return "not-observable";
+        case LineStatus::pass:
+            return "pass";
+        case LineStatus::fail:
+            return "fail";
+        case LineStatus::below_floor:
+            return "below-floor";
+        case LineStatus::not_observable:
+            return "not-observable";
     }
     return "?";
 }
 
 double limit_dbc_for(LineKind kind, const PlanLimits& limits) {
     switch (kind) {
-        case LineKind::wanted: return kNaN;
-        case LineKind::lo_feedthrough: return limits.lo_feedthrough_dbc;
-        case LineKind::image: return -limits.image_rejection_db;
+        case LineKind::wanted:
+            return kNaN;
+        case LineKind::lo_feedthrough:
+            return limits.lo_feedthrough_dbc;
+        case LineKind::image:
+            return -limits.image_rejection_db;
         case LineKind::half_if:
         case LineKind::if_feedthrough:
         case LineKind::rf_feedthrough:
-        case LineKind::spur: return limits.spur_dbc;
+        case LineKind::spur:
+            return limits.spur_dbc;
     }
     return kNaN;
 }
@@ -318,9 +337,8 @@ Observation observe(const CheckContext& c, const ExpectedLine& line) {
     res.floor_dbfs_per_hz = db_from_power(mu / s.rbw_hz);
 
     const double bins = static_cast<double>(o.khi - o.klo + 1);
-    const double threshold = std::max(c.st.quantile(std::pow(1.0 - c.opt.false_alarm, 1.0 / bins)),
-                                      power_from_db(c.opt.min_detect_db)) *
-                             mu;
+    const double threshold =
+        std::max(c.st.quantile(std::pow(1.0 - c.opt.false_alarm, 1.0 / bins)), power_from_db(c.opt.min_detect_db)) * mu;
     double window_max = 0.0;
     long long k0 = o.klo;
     for (long long k = o.klo; k <= o.khi; ++k) {
@@ -344,8 +362,7 @@ Observation observe(const CheckContext& c, const ExpectedLine& line) {
     // so anything above max(threshold, what the window shows)/R(½) would have been detected.
     res.status = LineStatus::below_floor;
     res.upper_bound_dbfs = db_from_power(std::max(threshold, window_max) / c.r.power_at(0.5));
-    if (window_max > threshold)
-        res.note = "the window holds only the skirt of a stronger signal (no peak of its own)";
+    if (window_max > threshold) res.note = "the window holds only the skirt of a stronger signal (no peak of its own)";
     return o;
 }
 
@@ -358,13 +375,15 @@ void demote_to_masked(Observation& o, const CheckContext& c, const std::string& 
     o.tone = Tone{};
 }
 
-void append_note(std::string& note, const std::string& more) { note += (note.empty() ? "" : "; ") + more; }
+void append_note(std::string& note, const std::string& more) {
+    note += (note.empty() ? "" : "; ") + more;
+}
 
 }  // namespace
 
 PlanCheck check_plan(const Spectrum& s, std::span<const ExpectedLine> lines, const PlanCheckOptions& opt) {
-    const auto wanted_count = std::count_if(lines.begin(), lines.end(),
-                                            [](const ExpectedLine& l) { return l.kind == LineKind::wanted; });
+    const auto wanted_count =
+        std::count_if(lines.begin(), lines.end(), [](const ExpectedLine& l) { return l.kind == LineKind::wanted; });
     if (wanted_count != 1)
         throw InputError("plan check: expected exactly one line of kind wanted, got " + std::to_string(wanted_count));
     if (s.power.empty() || !(s.rbw_hz > 0.0)) throw InputError("plan check: the spectrum is empty");
@@ -374,7 +393,11 @@ PlanCheck check_plan(const Spectrum& s, std::span<const ExpectedLine> lines, con
 
     const std::size_t n = s.power.size();
     const BinStatistics st = bin_statistics(s);
-    CheckContext c{s, opt, make_window_response(s.spec.window, s.spec.kaiser_beta, n), st, noise_floor_profile(s, st),
+    CheckContext c{s,
+                   opt,
+                   make_window_response(s.spec.window, s.spec.kaiser_beta, n),
+                   st,
+                   noise_floor_profile(s, st),
                    0.5 * s.sample_rate_hz * opt.usable_fraction};
     PlanCheck out;
     out.rbw_hz = s.rbw_hz;
@@ -390,7 +413,8 @@ PlanCheck check_plan(const Spectrum& s, std::span<const ExpectedLine> lines, con
     std::vector<std::size_t> order(obs.size());
     std::iota(order.begin(), order.end(), 0);
     std::sort(order.begin(), order.end(), [&](std::size_t a, std::size_t b) {
-        const double pa = obs[a].tone.found ? obs[a].tone.power : -1.0, pb = obs[b].tone.found ? obs[b].tone.power : -1.0;
+        const double pa = obs[a].tone.found ? obs[a].tone.power : -1.0,
+                     pb = obs[b].tone.found ? obs[b].tone.power : -1.0;
         return pa > pb;
     });
     std::vector<StrongPeak> strong;
@@ -456,8 +480,8 @@ PlanCheck check_plan(const Spectrum& s, std::span<const ExpectedLine> lines, con
     // and not leakage of anything stronger.
     const auto [ulo, uhi] = bin_range(s, s.center_hz - c.usable_half_hz, s.center_hz + c.usable_half_hz);
     const double span_bins = static_cast<double>(std::max<long long>(1, uhi - ulo + 1));
-    const double factor = std::max(c.st.quantile(std::pow(1.0 - opt.false_alarm, 1.0 / span_bins)),
-                                   power_from_db(opt.unexplained_db));
+    const double factor =
+        std::max(c.st.quantile(std::pow(1.0 - opt.false_alarm, 1.0 / span_bins)), power_from_db(opt.unexplained_db));
     out.unexplained_threshold_db = db_from_power(factor);
     std::vector<char> excluded(n, 0);
     const int lb = lobe_bins(c.r);
@@ -525,8 +549,8 @@ ImageRejection image_rejection(double image_rf_hz, double wanted_rf_db, double w
     return r;
 }
 
-ImageRejection image_rejection(double image_rf_hz, double wanted_rf_db, const LineResult& wanted_if,
-                               double image_rf_db, const LineResult& image_if, double limit_db) {
+ImageRejection image_rejection(double image_rf_hz, double wanted_rf_db, const LineResult& wanted_if, double image_rf_db,
+                               const LineResult& image_if, double limit_db) {
     const bool bound = image_if.status == LineStatus::below_floor;
     const double image_db = bound ? image_if.upper_bound_dbfs
                                   : (image_if.status == LineStatus::not_observable ? kNaN : image_if.level_dbfs);

@@ -26,13 +26,13 @@ inline constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 // its mean (bin_stats.hpp), computed twice: the second pass leaves out bins above the first pass's 99.9 %
 // noise quantile (tones and their skirts) and uses the matching quantile of the truncated distribution.
 struct NoiseFloor {
-    double power_per_bin = kNaN;  // μ: mean noise power of one bin of one frame (linear, tone-calibrated)
-    double dbfs_per_hz = kNaN;    // μ / RBW in dBFS/Hz
-    double db_per_hz = kNaN;      // in the spectrum's unit per Hz (dBm/Hz when calibrated)
-    double dbfs_per_rbw = kNaN;   // μ in dBFS: the noise in one resolution bandwidth
-    double median_bias_db = kNaN; // mean/median correction applied (dB)
+    double power_per_bin = kNaN;       // μ: mean noise power of one bin of one frame (linear, tone-calibrated)
+    double dbfs_per_hz = kNaN;         // μ / RBW in dBFS/Hz
+    double db_per_hz = kNaN;           // in the spectrum's unit per Hz (dBm/Hz when calibrated)
+    double dbfs_per_rbw = kNaN;        // μ in dBFS: the noise in one resolution bandwidth
+    double median_bias_db = kNaN;      // mean/median correction applied (dB)
     double effective_averages = kNaN;  // K_eff of the distribution used
-    int bins = 0;                 // bins the median was taken over
+    int bins = 0;                      // bins the median was taken over
     double low_hz = kNaN, high_hz = kNaN;
 };
 
@@ -54,12 +54,12 @@ std::vector<double> noise_floor_profile(const Spectrum& s, const BinStatistics& 
 // over the main lobe (± ceil(half-width) + 1 bins, noise mean subtracted) divided by the window's response
 // summed over the same bins at that offset, so it does not depend on where the tone falls between bins.
 struct Tone {
-    bool found = false;       // a bin in range that is a local maximum
+    bool found = false;  // a bin in range that is a local maximum
     int peak_bin = -1;
     double freq_hz = kNaN;
-    double power = kNaN;      // A² of A·e^{j2πft}: linear, noise-corrected (may be ≤ 0 when noise dominates)
-    double peak_power = kNaN; // the peak bin as read
-    double level_dbfs = kNaN; // 10·log10(power)
+    double power = kNaN;       // A² of A·e^{j2πft}: linear, noise-corrected (may be ≤ 0 when noise dominates)
+    double peak_power = kNaN;  // the peak bin as read
+    double level_dbfs = kNaN;  // 10·log10(power)
 };
 
 // `noise_per_bin` is the mean noise of the estimate per bin, subtracted before the fit (0: none).
@@ -119,11 +119,11 @@ struct LineResult {
     ExpectedLine line;
     LineStatus status = LineStatus::not_observable;
     double search_low_hz = kNaN, search_high_hz = kNaN;
-    double freq_hz = kNaN;        // measured (observed lines)
-    double freq_error_hz = kNaN;  // measured − expected
-    double level_dbfs = kNaN;     // observed lines
-    double level_dbm = kNaN;      // observed lines, when the analyzer's unit is dBm
-    double level_dbc = kNaN;      // observed lines, when the wanted is observed
+    double freq_hz = kNaN;           // measured (observed lines)
+    double freq_error_hz = kNaN;     // measured − expected
+    double level_dbfs = kNaN;        // observed lines
+    double level_dbm = kNaN;         // observed lines, when the analyzer's unit is dBm
+    double level_dbc = kNaN;         // observed lines, when the wanted is observed
     double upper_bound_dbfs = kNaN;  // below-floor: the line is at most this (detection threshold, worst bin offset)
     double upper_bound_dbc = kNaN;
     double floor_dbfs_per_hz = kNaN;  // local noise floor at the line
@@ -141,7 +141,7 @@ struct UnexplainedPeak {
 
 struct PlanCheck {
     LineResult wanted;
-    std::vector<LineResult> lines;  // every other expected line, in input order
+    std::vector<LineResult> lines;             // every other expected line, in input order
     std::vector<UnexplainedPeak> unexplained;  // strongest first
     bool unexplained_truncated = false;        // more than max_unexplained were found
     double unexplained_threshold_db = kNaN;    // used: above the local mean noise per bin
@@ -180,7 +180,7 @@ struct ImageRejection {
 ImageRejection image_rejection(double image_rf_hz, double wanted_rf_db, double wanted_if_db, double image_rf_db,
                                double image_if_db, bool image_if_is_upper_bound, double limit_db);
 // From the plan check's image line (its level, or its upper bound when below the floor).
-ImageRejection image_rejection(double image_rf_hz, double wanted_rf_db, const LineResult& wanted_if,
-                               double image_rf_db, const LineResult& image_if, double limit_db);
+ImageRejection image_rejection(double image_rf_hz, double wanted_rf_db, const LineResult& wanted_if, double image_rf_db,
+                               const LineResult& image_if, double limit_db);
 
 }  // namespace hb

@@ -10,7 +10,9 @@
 
 namespace hb {
 
-double Spectrum::level_db(double p) const { return db_from_power(p) + unit_offset_db(); }
+double Spectrum::level_db(double p) const {
+    return db_from_power(p) + unit_offset_db();
+}
 
 double Spectrum::density_db_per_hz(double power_per_bin) const {
     return db_from_power(power_per_bin / rbw_hz) + unit_offset_db();
@@ -105,7 +107,9 @@ void Welch::frame() {
         for (std::size_t k = half; k < n; ++k) update(acc[k - half], std::norm(out[k]) * scale);
     };
     switch (spec_.averaging) {
-        case Averaging::rms: each_bin([](double& a, double p) { a += p; }); break;
+        case Averaging::rms:
+            each_bin([](double& a, double p) { a += p; });
+            break;
         case Averaging::exponential: {
             const double alpha = 1.0 / spec_.averages;
             if (first_frame)
@@ -144,7 +148,9 @@ std::int64_t Welch::frames() const {
     return acc_frames_;
 }
 
-bool Welch::ready() const { return frames() >= spec_.averages; }
+bool Welch::ready() const {
+    return frames() >= spec_.averages;
+}
 
 void Welch::read(Spectrum& out) const {
     out.spec = spec_;

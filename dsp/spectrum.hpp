@@ -27,8 +27,8 @@ struct Spectrum {
     double enbw_bins = 1.0;       // window ENBW in bins
     double coherent_gain = 1.0;   // window Σw/N
     double rbw_hz = 0.0;          // ENBW·fs/N
-    std::int64_t frames = 0;      // periodograms in this estimate (rms: ≤ averages; holds and exponential: since reset)
-    std::vector<double> power;    // per bin, linear, tone-calibrated (see above), fftshifted
+    std::int64_t frames = 0;    // periodograms in this estimate (rms: ≤ averages; holds and exponential: since reset)
+    std::vector<double> power;  // per bin, linear, tone-calibrated (see above), fftshifted
 
     int size() const { return static_cast<int>(power.size()); }
     double bin_hz() const { return sample_rate_hz / static_cast<double>(power.size()); }
@@ -51,7 +51,7 @@ struct Spectrum {
 //   max-hold / min-hold  bin-wise maximum / minimum over every frame since reset
 // push() does not allocate: the FFT plan, the window and every buffer are made by make().
 class Welch {
-public:
+  public:
     // Throws InputError naming the analyzer key for a size that is not a power of two in
     // kMinFftSize..kMaxFftSize, an overlap outside [0, 0.95], averages < 1, or a rate that is not positive.
     static Welch make(const AnalyzerSpec& spec, double center_hz, double sample_rate_hz);
@@ -71,7 +71,7 @@ public:
     const AnalyzerSpec& spec() const { return spec_; }
     int hop() const { return hop_; }
 
-private:
+  private:
     Welch() = default;
     void frame();
 
@@ -82,7 +82,7 @@ private:
     std::vector<float> window_;
     std::vector<std::complex<float>> ring_;  // the last n_ samples; ring_[pos_] is the oldest once full
     std::size_t pos_ = 0;
-    std::size_t need_ = 0;    // samples still needed before the next frame
+    std::size_t need_ = 0;           // samples still needed before the next frame
     std::vector<double> acc_;        // running estimate (fftshifted)
     std::vector<double> published_;  // rms: the last complete set
     std::int64_t acc_frames_ = 0, sets_ = 0;

@@ -68,10 +68,17 @@ std::vector<double> padded_power_response(std::span<const double> w, std::size_t
 std::vector<double> make_window(WindowType type, std::size_t n, double kaiser_beta) {
     std::vector<double> w(n, 1.0);
     switch (type) {
-        case WindowType::rectangular: break;
-        case WindowType::hann: cosine_sum(kHann, w); break;
-        case WindowType::blackman_harris: cosine_sum(kBlackmanHarris, w); break;
-        case WindowType::flat_top: cosine_sum(kFlatTop, w); break;
+        case WindowType::rectangular:
+            break;
+        case WindowType::hann:
+            cosine_sum(kHann, w);
+            break;
+        case WindowType::blackman_harris:
+            cosine_sum(kBlackmanHarris, w);
+            break;
+        case WindowType::flat_top:
+            cosine_sum(kFlatTop, w);
+            break;
         case WindowType::kaiser: {
             const double denom = std::cyl_bessel_i(0.0, kaiser_beta);
             for (std::size_t i = 0; i < n; ++i) {
@@ -125,11 +132,16 @@ double overlap_correlation(std::span<const double> w, double overlap) {
 
 double mainlobe_halfwidth_bins(WindowType type, double kaiser_beta) {
     switch (type) {
-        case WindowType::rectangular: return 1.0;
-        case WindowType::hann: return 2.0;
-        case WindowType::blackman_harris: return 4.0;
-        case WindowType::flat_top: return 5.0;
-        case WindowType::kaiser: return std::sqrt(1.0 + (kaiser_beta / kPi) * (kaiser_beta / kPi));
+        case WindowType::rectangular:
+            return 1.0;
+        case WindowType::hann:
+            return 2.0;
+        case WindowType::blackman_harris:
+            return 4.0;
+        case WindowType::flat_top:
+            return 5.0;
+        case WindowType::kaiser:
+            return std::sqrt(1.0 + (kaiser_beta / kPi) * (kaiser_beta / kPi));
     }
     return 1.0;
 }

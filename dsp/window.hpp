@@ -9,8 +9,8 @@
 //   flat-top          a = 0.21557895, 0.41663158, 0.277263158, 0.083578947, 0.006947368
 //                                                                   D'Antona & Ferrero, DSP for Measurement
 //                                                                   Systems, 2006, p. 70
-//   Kaiser(β)         I0(β·sqrt(1 − (2n/N − 1)²)) / I0(β)           Kaiser 1974; Harris's "Kaiser-Bessel α" is β/π
-//   rectangular       1
+//   Kaiser(β)         I0(β·sqrt(1 − (2n/N − 1)²)) / I0(β)           the Kaiser window; Harris's "Kaiser-Bessel α" is
+//   β/π rectangular       1
 // A cosine-sum window is w[n] = Σ_k (−1)^k a_k cos(2πkn/N).
 #pragma once
 
@@ -62,9 +62,9 @@ struct WindowResponse {
     double kaiser_beta = 0.0;
     double enbw_bins = 1.0;
     double mainlobe_halfwidth_bins = 1.0;
-    int oversample = 32;            // table points per bin
-    std::vector<double> fine;       // |W(i/oversample)|²/|W(0)|², i = 0..fine.size()−1 (|ν| up to fine_bins)
-    std::vector<double> envelope;   // max of |W(ν)|²/|W(0)|² over |ν| in [d − ½, d + ½], d = 0..envelope.size()−1
+    int oversample = 32;           // table points per bin
+    std::vector<double> fine;      // |W(i/oversample)|²/|W(0)|², i = 0..fine.size()−1 (|ν| up to fine_bins)
+    std::vector<double> envelope;  // max of |W(ν)|²/|W(0)|² over |ν| in [d − ½, d + ½], d = 0..envelope.size()−1
 
     // Power response at an offset of nu bins (symmetric). Linear interpolation in the fine table; beyond it the
     // envelope (an upper bound).

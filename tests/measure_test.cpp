@@ -1,5 +1,7 @@
 // Measurements on the spectrum: bin statistics, tone level and frequency, noise floor, SNR/SFDR, the plan
 // check and image rejection. Inputs are synthetic (made here, or by numpy where named), with known levels.
+#include "dsp/measure.hpp"
+
 #include <gtest/gtest.h>
 
 #include <algorithm>
@@ -11,7 +13,6 @@
 
 #include "dsp/bin_stats.hpp"
 #include "dsp/errors.hpp"
-#include "dsp/measure.hpp"
 #include "dsp/spectrum.hpp"
 #include "dsp/units.hpp"
 #include "support/test_support.hpp"
@@ -22,8 +23,8 @@ namespace {
 using cf = std::complex<float>;
 
 struct ToneSpec {
-    double freq_hz;    // relative to the stream's centre
-    double level_dbfs; // 20·log10 A of A·e^{j2πft}
+    double freq_hz;     // relative to the stream's centre
+    double level_dbfs;  // 20·log10 A of A·e^{j2πft}
 };
 
 // Tones (double-precision phase) plus complex white Gaussian noise of the given density.
@@ -77,10 +78,11 @@ TEST(BinStats, IncompleteGammaMatchesScipyAndClosedForms) {
     for (double x : {0.01, 0.5, 1.0, 3.0, 20.0}) EXPECT_NEAR(regularized_gamma_p(1.0, x), -std::expm1(-x), 1e-13);
     const auto py = test::python_with_scipy();
     if (!py) GTEST_SKIP() << "python3 with numpy and scipy not found (Debian: python3-scipy)";
-    const std::vector<std::pair<double, double>> ax{{0.5, 0.2}, {2.0, 1.0}, {16.0, 14.0}, {16.0, 30.0}, {100.0, 95.0},
-                                                    {1000.0, 1040.0}, {3e4, 2.99e4}, {5e5, 5.01e5}};
+    const std::vector<std::pair<double, double>> ax{{0.5, 0.2},    {2.0, 1.0},       {16.0, 14.0},  {16.0, 30.0},
+                                                    {100.0, 95.0}, {1000.0, 1040.0}, {3e4, 2.99e4}, {5e5, 5.01e5}};
     std::string script = "import scipy.special as s\n";
-    for (auto [a, x] : ax) script += "print(repr(float(s.gammainc(" + format_number(a) + ", " + format_number(x) + "))))\n";
+    for (auto [a, x] : ax)
+        script += "print(repr(float(s.gammainc(" + format_number(a) + ", " + format_number(x) + "))))\n";
     const auto r = test::run({*py, "-c", script});
     ASSERT_EQ(r.exit_code, 0) << r.err;
     std::istringstream in(r.out);
@@ -130,7 +132,8 @@ TEST(Tone, LevelIndependentOfPositionBetweenBins) {
         const double bin = fs / n;
         for (int step = 0; step < 20; ++step) {
             const double f = 100 * bin + step * bin / 20.0 + bin / 40.0;
-            const auto x = make_signal(samples_for(a, 8), fs, {{f, -10.0}}, -10 - 70 - 30, 100u + static_cast<unsigned>(step));
+            const auto x =
+                make_signal(samples_for(a, 8), fs, {{f, -10.0}}, -10 - 70 - 30, 100u + static_cast<unsigned>(step));
             const Spectrum s = analyse(a, 0.0, fs, x);
             const NoiseFloor fl = noise_floor(s);
             const Tone t = measure_tone(s, resp, f - 3 * bin, f + 3 * bin, fl.power_per_bin);
@@ -196,12 +199,12 @@ TEST(NoiseFloor, WhiteNoiseDensityWithAndWithoutTones) {
     unsigned seed = 20;
     for (const Case& c : cases) {
         for (bool with_tones : {false, c.tones}) {
-            SCOPED_TRACE(std::string(to_string(c.w)) + " " + std::string(to_string(c.avg)) + " K=" +
-                         std::to_string(c.averages) + (with_tones ? " with tones" : ""));
+            SCOPED_TRACE(std::string(to_string(c.w)) + " " + std::string(to_string(c.avg)) +
+                         " K=" + std::to_string(c.averages) + (with_tones ? " with tones" : ""));
             const AnalyzerSpec a = analyzer(8192, c.w, c.averages, c.overlap, c.avg);
             const int frames = c.avg == Averaging::exponential ? 200 : c.averages;
-            const auto x = make_signal(samples_for(a, frames), fs, with_tones ? tones : std::vector<ToneSpec>{},
-                                       density, seed++);
+            const auto x =
+                make_signal(samples_for(a, frames), fs, with_tones ? tones : std::vector<ToneSpec>{}, density, seed++);
             const Spectrum s = analyse(a, 0.0, fs, x);
             const NoiseFloor f = noise_floor(s);
             EXPECT_NEAR(f.dbfs_per_hz, density, 0.3);
@@ -211,7 +214,8 @@ TEST(NoiseFloor, WhiteNoiseDensityWithAndWithoutTones) {
             std::vector<double> prof_db;
             for (double p : noise_floor_profile(s)) prof_db.push_back(db_from_power(p / s.rbw_hz));
             std::vector<double> sorted = prof_db;
-            std::nth_element(sorted.begin(), sorted.begin() + static_cast<std::ptrdiff_t>(sorted.size() / 2), sorted.end());
+            std::nth_element(sorted.begin(), sorted.begin() + static_cast<std::ptrdiff_t>(sorted.size() / 2),
+                             sorted.end());
             EXPECT_NEAR(sorted[sorted.size() / 2], density, 0.4);
             const bool exponential_shaped = c.averages == 1 || c.avg == Averaging::min_hold;
             if (!with_tones) {
@@ -238,7 +242,8 @@ TEST(NoiseFloor, ProfileFollowsAShapedFloor) {
         std::complex<double> z = std::polar(std::sqrt(per_tone), p0);
         for (std::size_t i = 0; i < x.size(); ++i, z *= step) extra[i] += z;
     }
-    for (std::size_t i = 0; i < x.size(); ++i) x[i] += cf(static_cast<float>(extra[i].real()), static_cast<float>(extra[i].imag()));
+    for (std::size_t i = 0; i < x.size(); ++i)
+        x[i] += cf(static_cast<float>(extra[i].real()), static_cast<float>(extra[i].imag()));
     const Spectrum s = analyse(a, 0.0, fs, x);
     const std::vector<double> prof = noise_floor_profile(s);
     EXPECT_NEAR(db_from_power(prof[static_cast<std::size_t>(s.bin_of_freq(-250e3))] / s.rbw_hz), -130.0, 0.6);
@@ -254,12 +259,12 @@ std::vector<ExpectedLine> bench_lines() {
     const double nan = std::nan("");
     return {
         {"RF−LO", 1, -1, LineKind::wanted, kIfCentre + 12.3e3, nan, nan},
-        {"2RF−2LO", 2, -2, LineKind::spur, kIfCentre + 101.77e3, -45.0, -60.0},   // strong: fails −60
-        {"3LO−3RF", 3, -3, LineKind::spur, kIfCentre - 187.31e3, -70.0, -60.0},   // passes
+        {"2RF−2LO", 2, -2, LineKind::spur, kIfCentre + 101.77e3, -45.0, -60.0},     // strong: fails −60
+        {"3LO−3RF", 3, -3, LineKind::spur, kIfCentre - 187.31e3, -70.0, -60.0},     // passes
         {"LO", 1, 0, LineKind::lo_feedthrough, kIfCentre + 301.1e3, -35.0, -30.0},  // passes its own limit
-        {"2RF−LO", -1, 2, LineKind::spur, kIfCentre - 350.07e3, -76.0, -60.0},    // weak but clear
-        {"4RF−3LO", -3, 4, LineKind::spur, kIfCentre + 222.2e3, -130.0, -60.0},   // under the floor
-        {"5LO−4RF", 5, -4, LineKind::spur, kIfCentre + 733.0e3, -50.0, -60.0},    // outside the span
+        {"2RF−LO", -1, 2, LineKind::spur, kIfCentre - 350.07e3, -76.0, -60.0},      // weak but clear
+        {"4RF−3LO", -3, 4, LineKind::spur, kIfCentre + 222.2e3, -130.0, -60.0},     // under the floor
+        {"5LO−4RF", 5, -4, LineKind::spur, kIfCentre + 733.0e3, -50.0, -60.0},      // outside the span
     };
 }
 
@@ -271,12 +276,8 @@ TEST(PlanCheck, MeasuresKnownProductsAndFlagsTheRest) {
     // for every seed needs this much signal.
     const std::vector<ExpectedLine> lines = bench_lines();
     const double wanted = -12.0;
-    std::vector<ToneSpec> tones{{12.3e3, wanted},
-                                {101.77e3, wanted - 45},
-                                {-187.31e3, wanted - 70},
-                                {301.1e3, wanted - 35},
-                                {-350.07e3, wanted - 78},
-                                {222.2e3, wanted - 130},
+    std::vector<ToneSpec> tones{{12.3e3, wanted},       {101.77e3, wanted - 45},  {-187.31e3, wanted - 70},
+                                {301.1e3, wanted - 35}, {-350.07e3, wanted - 78}, {222.2e3, wanted - 130},
                                 {-61.61e3, wanted - 75}};  // nobody predicted this one
     const AnalyzerSpec a = analyzer(8192, WindowType::blackman_harris, 16);
     const Spectrum s = analyse(a, kIfCentre, kFs, make_signal(samples_for(a, 16), kFs, tones, -140.0, 40));
@@ -333,15 +334,18 @@ TEST(PlanCheck, NumpyMadeInputWithFrequencyErrors) {
         "import numpy as np\n"
         "fs = 1e6; n = 4096 * 20; t = np.arange(n) / fs; rng = np.random.default_rng(5)\n"
         "dlo = 150.0\n"
-        "tones = [(12.3e3 + dlo, -12.0), (101.77e3 + 2 * dlo, -57.0), (-187.31e3 + 3 * dlo, -82.0), (301.1e3 + dlo, -47.0)]\n"
+        "tones = [(12.3e3 + dlo, -12.0), (101.77e3 + 2 * dlo, -57.0), (-187.31e3 + 3 * dlo, -82.0), (301.1e3 + dlo, "
+        "-47.0)]\n"
         "x = sum(10 ** (l / 20) * np.exp(1j * (2 * np.pi * f * t + rng.uniform(0, 2 * np.pi))) for f, l in tones)\n"
         "sigma2 = 10 ** (-130 / 10) * fs\n"
         "x = x + np.sqrt(sigma2 / 2) * (rng.standard_normal(n) + 1j * rng.standard_normal(n))\n"
-        "x.astype(np.complex64).tofile('" + path + "')\n";
+        "x.astype(np.complex64).tofile('" +
+        path + "')\n";
     const auto r = test::run({*py, "-c", script});
     ASSERT_EQ(r.exit_code, 0) << r.err;
     std::vector<cf> x(4096 * 20);
-    std::ifstream(path, std::ios::binary).read(reinterpret_cast<char*>(x.data()), static_cast<std::streamsize>(x.size() * sizeof(cf)));
+    std::ifstream(path, std::ios::binary)
+        .read(reinterpret_cast<char*>(x.data()), static_cast<std::streamsize>(x.size() * sizeof(cf)));
 
     std::vector<ExpectedLine> lines = bench_lines();
     lines.resize(4);
@@ -510,4 +514,3 @@ TEST(ImageRejection, QuadratureMixerMatchesTheClosedForm) {
 
 }  // namespace
 }  // namespace hb
-

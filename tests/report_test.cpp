@@ -65,7 +65,8 @@ struct Fixture {
         check = check_plan(spectrum, lines);
     }
     PlanReport report(std::string description = "an invented bench capture") const {
-        return PlanReport{setup, spectrum, check, std::nullopt, setup.bench.name, std::move(description), "if.sigmf-meta"};
+        return PlanReport{setup,          spectrum, check, std::nullopt, setup.bench.name, std::move(description),
+                          "if.sigmf-meta"};
     }
 };
 
@@ -81,7 +82,8 @@ TEST(Report, JsonCarriesTheContractFields) {
     EXPECT_EQ(j["schema"], "hetbench.plan-check/1");
     for (const char* key : {"wanted", "products", "unexplained", "image", "noise_floor", "rbw_hz", "setup", "verdict"})
         EXPECT_TRUE(j.contains(key)) << key;
-    for (const char* key : {"label", "freq_hz", "level_dbfs", "level_dbm"}) EXPECT_TRUE(j["wanted"].contains(key)) << key;
+    for (const char* key : {"label", "freq_hz", "level_dbfs", "level_dbm"})
+        EXPECT_TRUE(j["wanted"].contains(key)) << key;
     ASSERT_EQ(j["products"].size(), 4u);
     for (const auto& p : j["products"]) {
         for (const char* key : {"label", "m", "n", "freq_hz", "level_dbfs", "level_dbc", "limit_dbc", "status"})
@@ -213,7 +215,7 @@ TEST(Report, HtmlEscapesEverythingFromInputs) {
     const Fixture f;
     const std::string html = plan_report_html(f.report("capture <script>alert('x')</script> & more"));
     EXPECT_NE(html.find("&lt;script&gt;alert(&#39;x&#39;)&lt;/script&gt; &amp; more"), std::string::npos);
-    EXPECT_EQ(html.find("<script"), std::string::npos);  // no script element anywhere
+    EXPECT_EQ(html.find("<script"), std::string::npos);   // no script element anywhere
     EXPECT_EQ(html.find("<b>x</b>"), std::string::npos);  // a label's markup is text, not markup
     EXPECT_NE(html.find("2LO\u22122RF, &lt;b&gt;x&lt;/b&gt;"), std::string::npos);
     EXPECT_NE(html.find("bench &lt;7&gt; &amp; &quot;friends&quot;"), std::string::npos);
@@ -230,12 +232,13 @@ TEST(Report, HtmlEscapesEverythingFromInputs) {
     ASSERT_NE(b, std::string::npos);
     test::TempDir tmp;
     test::write_file(tmp.file("plot.svg"), html.substr(a, b + 6 - a));
-    const auto r = test::run({*py, "-c",
-                              "import sys, xml.etree.ElementTree as et\n"
-                              "ns = '{http://www.w3.org/2000/svg}'\n"
-                              "root = et.parse(sys.argv[1]).getroot()\n"
-                              "print(len(root.findall('.//' + ns + 'circle')), len(root.findall('.//' + ns + 'path')))\n",
-                              tmp.file("plot.svg").string()});
+    const auto r =
+        test::run({*py, "-c",
+                   "import sys, xml.etree.ElementTree as et\n"
+                   "ns = '{http://www.w3.org/2000/svg}'\n"
+                   "root = et.parse(sys.argv[1]).getroot()\n"
+                   "print(len(root.findall('.//' + ns + 'circle')), len(root.findall('.//' + ns + 'path')))\n",
+                   tmp.file("plot.svg").string()});
     ASSERT_EQ(r.exit_code, 0) << r.err;
     EXPECT_EQ(r.out, "4 1\n");  // wanted, 2×2, LO, the bounded line; one unexplained
 }
@@ -252,14 +255,13 @@ TEST(Report, PngShowsTheTraceAndTheFailingMarker) {
     EXPECT_EQ(h, 500);
     auto count = [&](plot::Rgb c) {
         long n = 0;
-        for (int i = 0; i < w * h; ++i)
-            n += img[3 * i] == c.r && img[3 * i + 1] == c.g && img[3 * i + 2] == c.b;
+        for (int i = 0; i < w * h; ++i) n += img[3 * i] == c.r && img[3 * i + 1] == c.g && img[3 * i + 2] == c.b;
         return n;
     };
-    EXPECT_GT(count(plot::kTrace), 500);        // the trace spans the plot
-    EXPECT_GT(count(plot::kFail), 20);          // the failing 2×2 product's marker and label
-    EXPECT_GT(count(plot::kUnexplained), 10);   // the unexplained peak
-    EXPECT_GT(count(plot::kLimit), 10);         // limit bars
+    EXPECT_GT(count(plot::kTrace), 500);       // the trace spans the plot
+    EXPECT_GT(count(plot::kFail), 20);         // the failing 2×2 product's marker and label
+    EXPECT_GT(count(plot::kUnexplained), 10);  // the unexplained peak
+    EXPECT_GT(count(plot::kLimit), 10);        // limit bars
     stbi_image_free(img);
 
     // Labels outside printable ASCII (the segment font indexes a table by character: sanitizer builds catch a

@@ -1,5 +1,7 @@
 // Welch spectrum: calibration (reference-values W11), averaging modes, framing, bin-for-bin agreement with
 // scipy.signal.welch, and no allocation per block.
+#include "dsp/spectrum.hpp"
+
 #include <gtest/gtest.h>
 
 #include <atomic>
@@ -13,7 +15,6 @@
 #include <sstream>
 
 #include "dsp/errors.hpp"
-#include "dsp/spectrum.hpp"
 #include "dsp/units.hpp"
 #include "support/test_support.hpp"
 
@@ -28,8 +29,12 @@ void* operator new(std::size_t n) {
     if (void* p = std::malloc(n ? n : 1)) return p;
     throw std::bad_alloc();
 }
-void operator delete(void* p) noexcept { std::free(p); }
-void operator delete(void* p, std::size_t) noexcept { std::free(p); }
+void operator delete(void* p) noexcept {
+    std::free(p);
+}
+void operator delete(void* p, std::size_t) noexcept {
+    std::free(p);
+}
 
 namespace hb {
 namespace {
@@ -138,8 +143,8 @@ TEST(Spectrum, MatchesScipyWelchBinForBin) {
                          "', dtype=np.complex64).astype(np.complex128)\n";
     for (const Case& c : cases) {
         const int noverlap = n - static_cast<int>(std::lround(n * (1.0 - c.overlap)));
-        script += "f, p = s.welch(x, fs=" + std::to_string(fs) + ", window=" + c.scipy + ", nperseg=" +
-                  std::to_string(n) + ", noverlap=" + std::to_string(noverlap) +
+        script += "f, p = s.welch(x, fs=" + std::to_string(fs) + ", window=" + c.scipy +
+                  ", nperseg=" + std::to_string(n) + ", noverlap=" + std::to_string(noverlap) +
                   ", detrend=False, return_onesided=False, scaling='spectrum')\n"
                   "print(' '.join(repr(float(v)) for v in np.fft.fftshift(p)))\n";
     }

@@ -1,12 +1,13 @@
 // Windows: coefficients and figures of merit against Harris 1978 (as tabulated with their computed values in
 // ../shared/reference-values.md §1) and against scipy.signal.get_window.
+#include "dsp/window.hpp"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
 #include <sstream>
 
 #include "dsp/units.hpp"
-#include "dsp/window.hpp"
 #include "support/test_support.hpp"
 
 namespace hb {
@@ -29,7 +30,7 @@ std::vector<double> cosine_window(std::vector<double> a, std::size_t n) {
 struct Expected {
     const char* name;
     std::vector<double> w;
-    double cg, enbw, sl_db, hsl_db;               // computed values, reference-values W1–W7
+    double cg, enbw, sl_db, hsl_db;                        // computed values, reference-values W1–W7
     double harris_cg, harris_enbw, harris_sl, harris_hsl;  // Harris 1978 Table 1, rounded (NaN: not in Harris)
 };
 
@@ -41,11 +42,11 @@ std::vector<Expected> expected_figures() {
         // W2 Hann: Harris 1978 Table 1: −32 dB, 0.50, 1.50, 1.42 dB
         {"hann", make_window(WindowType::hann, kN), 0.500, 1.5000, 1.424, -31.47, 0.50, 1.50, 1.42, -32},
         // W5 Blackman-Harris 4-term: Harris 1978 Table 1: −92 dB, 0.36, 2.00, 0.83 dB
-        {"blackman-harris", make_window(WindowType::blackman_harris, kN), 0.35875, 2.0044, 0.826, -92.01, 0.36,
-         2.00, 0.83, -92},
+        {"blackman-harris", make_window(WindowType::blackman_harris, kN), 0.35875, 2.0044, 0.826, -92.01, 0.36, 2.00,
+         0.83, -92},
         // W6 Kaiser-Bessel α = 3 (β = 3π): Harris 1978 Table 1: −69 dB, 0.40, 1.80, 1.02 dB
-        {"kaiser 3pi", make_window(WindowType::kaiser, kN, 3 * kPi), 0.4025, 1.7952, 1.023, -69.6, 0.40, 1.80,
-         1.02, -69},
+        {"kaiser 3pi", make_window(WindowType::kaiser, kN, 3 * kPi), 0.4025, 1.7952, 1.023, -69.6, 0.40, 1.80, 1.02,
+         -69},
         // W7 flat-top, D'Antona & Ferrero 2006 p. 70 coefficients (not in Harris)
         {"flat-top", make_window(WindowType::flat_top, kN), 0.2156, 3.7702, 0.0098, -93.0, nan, nan, nan, nan},
         // W3 Hamming 0.54/0.46 (not an analyzer choice). Harris prints SL 1.78 dB, but the exact value is 1.75
@@ -140,8 +141,8 @@ TEST(Window, SamplesMatchScipyGetWindow) {
                                   {WindowType::rectangular, 0, "'boxcar'"}};
     std::string script = "import scipy.signal as s\n";
     for (const Case& c : cases)
-        script += "print(' '.join(repr(float(v)) for v in s.get_window(" + c.scipy_name + ", " + std::to_string(n) +
-                  ")))\n";
+        script +=
+            "print(' '.join(repr(float(v)) for v in s.get_window(" + c.scipy_name + ", " + std::to_string(n) + ")))\n";
     const auto r = test::run({*py, "-c", script});
     ASSERT_EQ(r.exit_code, 0) << r.err;
     std::istringstream lines(r.out);
@@ -164,15 +165,16 @@ TEST(Window, SamplesMatchScipyGetWindow) {
 
 TEST(Window, MainLobeHalfWidthIsTheFirstNull) {
     // Cosine sums: exact nulls on the bin grid at K bins (derivable: K Dirichlet kernels one bin apart).
-    for (WindowType t : {WindowType::rectangular, WindowType::hann, WindowType::blackman_harris, WindowType::flat_top}) {
+    for (WindowType t :
+         {WindowType::rectangular, WindowType::hann, WindowType::blackman_harris, WindowType::flat_top}) {
         SCOPED_TRACE(std::string(to_string(t)));
         const WindowResponse r = make_window_response(t, 0, kN);
         const double hw = mainlobe_halfwidth_bins(t);
         EXPECT_LT(r.power_at(hw), 1e-9);
         EXPECT_GT(r.power_at(hw - 0.5), 1e-6);  // still in the main lobe half a bin inside
     }
-    // Kaiser: the first minimum is at sqrt(1 + (β/π)²) for the continuous transform (Kaiser 1974); the sampled
-    // window puts it within a few hundredths of a bin.
+    // Kaiser: the first minimum is at sqrt(1 + (β/π)²) for the continuous transform (derivable from its closed form);
+    // the sampled window puts it within a few hundredths of a bin.
     const double beta = 9.0, hw = mainlobe_halfwidth_bins(WindowType::kaiser, beta);
     const WindowResponse r = make_window_response(WindowType::kaiser, beta, kN);
     double best = hw, lowest = 1.0;

@@ -33,10 +33,13 @@ Rgb status_colour(const Marker& m) {
     if (m.unexplained) return kUnexplained;
     if (m.wanted) return m.status == LineStatus::pass ? kWanted : kBelow;
     switch (m.status) {
-        case LineStatus::pass: return kPass;
-        case LineStatus::fail: return kFail;
+        case LineStatus::pass:
+            return kPass;
+        case LineStatus::fail:
+            return kFail;
         case LineStatus::below_floor:
-        case LineStatus::not_observable: return kBelow;
+        case LineStatus::not_observable:
+            return kBelow;
     }
     return kInk;
 }
@@ -64,7 +67,8 @@ Plot make_plot(const PlanReport& r, int columns) {
     p.floor.assign(static_cast<std::size_t>(columns), std::nanf(""));
     const std::vector<double> profile = n ? noise_floor_profile(s) : std::vector<double>{};
     for (std::size_t k = 0; k < n; ++k) {
-        const auto col = std::min<std::size_t>(static_cast<std::size_t>(columns) - 1, k * static_cast<std::size_t>(columns) / n);
+        const auto col =
+            std::min<std::size_t>(static_cast<std::size_t>(columns) - 1, k * static_cast<std::size_t>(columns) / n);
         if (!std::isfinite(s.power[k])) continue;  // a broken bin is not drawn
         const float db = static_cast<float>(db_from_power(std::max(s.power[k], 1e-40)) + offset);
         p.trace[col] = std::max(p.trace[col], db);
@@ -72,7 +76,8 @@ Plot make_plot(const PlanReport& r, int columns) {
     for (int col = 0; col < columns && n; ++col) {
         const std::size_t k = (static_cast<std::size_t>(col) * n + n / 2) / static_cast<std::size_t>(columns);
         const double mu = profile[std::min(k, n - 1)];
-        if (std::isfinite(mu)) p.floor[static_cast<std::size_t>(col)] = static_cast<float>(db_from_power(std::max(mu, 1e-40)) + offset);
+        if (std::isfinite(mu))
+            p.floor[static_cast<std::size_t>(col)] = static_cast<float>(db_from_power(std::max(mu, 1e-40)) + offset);
     }
 
     // Markers: the wanted, every expected line inside the span, every unexplained peak.
@@ -142,7 +147,8 @@ Plot make_plot(const PlanReport& r, int columns) {
     }
     const double xstep = nice_step(p.f_hi - p.f_lo, 8);
     const int decimals = std::max(0, static_cast<int>(-std::floor(std::log10(xstep / scale) + 1e-9)));
-    for (double f = std::ceil(p.f_lo / xstep) * xstep; f < p.f_hi; f += xstep) p.x_ticks.push_back({f, fixed(f / scale, decimals)});
+    for (double f = std::ceil(p.f_lo / xstep) * xstep; f < p.f_hi; f += xstep)
+        p.x_ticks.push_back({f, fixed(f / scale, decimals)});
     return p;
 }
 

@@ -15,9 +15,9 @@ struct Marker {
     LineStatus status = LineStatus::pass;
     bool wanted = false;
     bool unexplained = false;
-    double level_db = kNaN;     // measured level, or the upper bound for below-floor lines (plot unit)
+    double level_db = kNaN;  // measured level, or the upper bound for below-floor lines (plot unit)
     bool upper_bound = false;
-    double limit_db = kNaN;     // the line's limit as an absolute level (wanted + limit_dbc), plot unit
+    double limit_db = kNaN;  // the line's limit as an absolute level (wanted + limit_dbc), plot unit
     double search_low_hz = kNaN, search_high_hz = kNaN;
 };
 
@@ -27,12 +27,12 @@ struct Tick {
 };
 
 struct Plot {
-    double f_lo = 0.0, f_hi = 1.0;    // x range, Hz
-    double db_lo = -120, db_hi = 0;   // y range, plot unit
-    std::string y_label;              // "dBFS in 244.7 Hz RBW"
-    std::string x_label;              // "MHz"
-    std::vector<float> trace;         // per column: the highest bin in it, plot unit
-    std::vector<float> floor;         // per column: the local noise per RBW, plot unit
+    double f_lo = 0.0, f_hi = 1.0;   // x range, Hz
+    double db_lo = -120, db_hi = 0;  // y range, plot unit
+    std::string y_label;             // "dBFS in 244.7 Hz RBW"
+    std::string x_label;             // "MHz"
+    std::vector<float> trace;        // per column: the highest bin in it, plot unit
+    std::vector<float> floor;        // per column: the local noise per RBW, plot unit
     std::vector<Tick> x_ticks, y_ticks;
     std::vector<Marker> markers;
 

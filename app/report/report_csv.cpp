@@ -8,7 +8,9 @@
 namespace hb {
 namespace {
 
-std::string cell(double v) { return std::isfinite(v) ? format_number(v) : std::string(); }
+std::string cell(double v) {
+    return std::isfinite(v) ? format_number(v) : std::string();
+}
 
 }  // namespace
 
@@ -42,7 +44,8 @@ std::string plan_report_csv(const PlanReport& r) {
     for (const UnexplainedPeak& u : r.check.unexplained)
         out += "unexplained,,,,,," + cell(u.freq_hz) + ",," + cell(u.level_dbfs) + "," + cell(u.level_dbm) + "," +
                cell(u.level_dbc) + ",,,,,,,," +
-               (std::isfinite(u.above_floor_db) ? csv_text(plot::fixed(u.above_floor_db, 1) + " dB above the floor") : "") +
+               (std::isfinite(u.above_floor_db) ? csv_text(plot::fixed(u.above_floor_db, 1) + " dB above the floor")
+                                                : "") +
                "\r\n";
     return out;
 }

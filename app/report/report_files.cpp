@@ -14,7 +14,9 @@ void write_bytes(const std::filesystem::path& p, const void* data, std::size_t s
     if (!out) throw InputError(p.string() + ": cannot write the report file");
 }
 
-void write_text(const std::filesystem::path& p, const std::string& text) { write_bytes(p, text.data(), text.size()); }
+void write_text(const std::filesystem::path& p, const std::string& text) {
+    write_bytes(p, text.data(), text.size());
+}
 
 }  // namespace
 

@@ -14,16 +14,20 @@ namespace {
 
 using plot::fixed;
 
-std::string freq(double hz) { return std::isfinite(hz) ? format_frequency(hz) : "—"; }
+std::string freq(double hz) {
+    return std::isfinite(hz) ? format_frequency(hz) : "—";
+}
 
-std::string db(double v, const char* unit) { return std::isfinite(v) ? fixed(v, 2) + " " + unit : "—"; }
+std::string db(double v, const char* unit) {
+    return std::isfinite(v) ? fixed(v, 2) + " " + unit : "—";
+}
 
 std::string status_cell(LineStatus st) {
     const std::string s(to_string(st));
     return "<td class=\"st " + s + "\">" + s + "</td>";
 }
 
-constexpr int kW = 1000, kH = 420;                          // SVG size
+constexpr int kW = 1000, kH = 420;                               // SVG size
 constexpr int kLeft = 64, kRight = 16, kTop = 28, kBottom = 44;  // plot margins
 constexpr int kPw = kW - kLeft - kRight, kPh = kH - kTop - kBottom;
 
@@ -37,8 +41,8 @@ std::string svg_plot(const plot::Plot& p) {
     for (const auto& t : p.y_ticks) {
         o << "<line x1=\"" << kLeft << "\" x2=\"" << kLeft + kPw << "\" y1=\"" << Y(t.value) << "\" y2=\"" << Y(t.value)
           << "\" stroke=\"" << css(plot::kGrid) << "\"/>";
-        o << "<text x=\"" << kLeft - 6 << "\" y=\"" << Y(t.value) + 4 << "\" text-anchor=\"end\">" << html_escape(t.text)
-          << "</text>\n";
+        o << "<text x=\"" << kLeft - 6 << "\" y=\"" << Y(t.value) + 4 << "\" text-anchor=\"end\">"
+          << html_escape(t.text) << "</text>\n";
     }
     for (const auto& t : p.x_ticks) {
         o << "<line x1=\"" << X(t.value) << "\" x2=\"" << X(t.value) << "\" y1=\"" << kTop << "\" y2=\"" << kTop + kPh
@@ -47,8 +51,8 @@ std::string svg_plot(const plot::Plot& p) {
             o << "<text x=\"" << X(t.value) << "\" y=\"" << kTop + kPh + 16 << "\" text-anchor=\"middle\">"
               << html_escape(t.text) << "</text>\n";
     }
-    o << "<text x=\"" << kLeft + kPw << "\" y=\"" << kTop + kPh + 16 << "\" text-anchor=\"end\">" << html_escape(p.x_label)
-      << "</text>\n";
+    o << "<text x=\"" << kLeft + kPw << "\" y=\"" << kTop + kPh + 16 << "\" text-anchor=\"end\">"
+      << html_escape(p.x_label) << "</text>\n";
     o << "<text x=\"14\" y=\"" << kTop + kPh / 2 << "\" text-anchor=\"middle\" transform=\"rotate(-90 14 "
       << kTop + kPh / 2 << ")\">" << html_escape(p.y_label) << "</text>\n";
 
@@ -81,7 +85,8 @@ std::string svg_plot(const plot::Plot& p) {
         const double x = X(m.freq_hz);
         const double y = std::isfinite(m.level_db) ? Y(m.level_db) : kTop + kPh;
         o << "<g><title>" << html_escape(m.label) << " " << freq(m.freq_hz)
-          << (std::isfinite(m.level_db) ? (m.upper_bound ? " ≤ " : " ") + fixed(m.level_db, 1) : std::string()) << "</title>";
+          << (std::isfinite(m.level_db) ? (m.upper_bound ? " ≤ " : " ") + fixed(m.level_db, 1) : std::string())
+          << "</title>";
         o << "<line x1=\"" << fixed(x, 1) << "\" x2=\"" << fixed(x, 1) << "\" y1=\"" << fixed(y, 1) << "\" y2=\""
           << kTop + kPh << "\" stroke=\"" << c << "\" stroke-width=\"1\""
           << (m.upper_bound ? " stroke-dasharray=\"2 3\"" : "") << "/>";
@@ -121,12 +126,23 @@ std::string html_escape(std::string_view text) {
     out.reserve(text.size());
     for (char ch : text) {
         switch (ch) {
-            case '&': out += "&amp;"; break;
-            case '<': out += "&lt;"; break;
-            case '>': out += "&gt;"; break;
-            case '"': out += "&quot;"; break;
-            case '\'': out += "&#39;"; break;
-            default: out += ch;
+            case '&':
+                out += "&amp;";
+                break;
+            case '<':
+                out += "&lt;";
+                break;
+            case '>':
+                out += "&gt;";
+                break;
+            case '"':
+                out += "&quot;";
+                break;
+            case '\'':
+                out += "&#39;";
+                break;
+            default:
+                out += ch;
         }
     }
     return out;
@@ -142,9 +158,10 @@ std::string plan_report_html(const PlanReport& r) {
     o << "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">\n<title>"
       << html_escape(r.title.empty() ? "plan check" : r.title) << " — hetbench plan check</title>\n<style>" << kStyle
       << "</style></head><body>\n";
-    o << "<h1>" << html_escape(r.title.empty() ? "Plan check" : r.title) << " <span class=\"verdict " << v << "\">"
-      << v << "</span></h1>\n";
-    o << "<p class=\"sub\">hetbench " << HETBENCH_VERSION << " plan check · source " << html_escape(r.source) << "</p>\n";
+    o << "<h1>" << html_escape(r.title.empty() ? "Plan check" : r.title) << " <span class=\"verdict " << v << "\">" << v
+      << "</span></h1>\n";
+    o << "<p class=\"sub\">hetbench " << HETBENCH_VERSION << " plan check · source " << html_escape(r.source)
+      << "</p>\n";
     if (!r.description.empty()) o << "<p class=\"desc\">" << html_escape(r.description) << "</p>\n";
 
     o << "<dl class=\"kv\">";
@@ -158,7 +175,8 @@ std::string plan_report_html(const PlanReport& r) {
       << fixed(100 * s.spec.overlap, 0) << " %</dd>";
     o << "<dt>Span</dt><dd>" << freq(s.low_hz()) << " to " << freq(s.high_hz()) << " (" << freq(s.sample_rate_hz)
       << " sample rate)</dd>";
-    if (s.spec.unit == LevelUnit::dbm) o << "<dt>Calibration</dt><dd>dBm = dBFS " << fixed(s.spec.calibration_db, 2) << " dB</dd>";
+    if (s.spec.unit == LevelUnit::dbm)
+        o << "<dt>Calibration</dt><dd>dBm = dBFS " << fixed(s.spec.calibration_db, 2) << " dB</dd>";
     o << "</dl>\n";
 
     o << "<h2>Spectrum</h2>\n" << svg_plot(plot::make_plot(r, kPw));
@@ -167,8 +185,9 @@ std::string plan_report_html(const PlanReport& r) {
         const char* name;
         plot::Rgb colour;
     };
-    for (const Key& k : {Key{"pass", plot::kPass}, Key{"fail", plot::kFail}, Key{"below floor (bound)", plot::kBelow},
-                         Key{"unexplained", plot::kUnexplained}, Key{"limit", plot::kLimit}, Key{"noise floor", plot::kFloor}})
+    for (const Key& k :
+         {Key{"pass", plot::kPass}, Key{"fail", plot::kFail}, Key{"below floor (bound)", plot::kBelow},
+          Key{"unexplained", plot::kUnexplained}, Key{"limit", plot::kLimit}, Key{"noise floor", plot::kFloor}})
         o << "<span><i class=\"sw\" style=\"background:" << css(k.colour) << "\"></i>" << k.name << "</span>";
     o << "</p>\n";
 
@@ -177,8 +196,8 @@ std::string plan_report_html(const PlanReport& r) {
          "<th>Note</th></tr>\n";
     auto row = [&](const LineResult& l) {
         const bool bound = l.status == LineStatus::below_floor;
-        o << "<tr><td>" << html_escape(l.line.label) << "</td><td>" << to_string(l.line.kind) << "</td><td>"
-          << l.line.m << ", " << l.line.n << "</td><td class=\"num\">" << freq(l.line.freq_hz) << "</td><td class=\"num\">"
+        o << "<tr><td>" << html_escape(l.line.label) << "</td><td>" << to_string(l.line.kind) << "</td><td>" << l.line.m
+          << ", " << l.line.n << "</td><td class=\"num\">" << freq(l.line.freq_hz) << "</td><td class=\"num\">"
           << (std::isfinite(l.freq_error_hz) ? fixed(l.freq_error_hz, 1) + " Hz" : "—") << "</td><td class=\"num\">"
           << (bound ? "≤ " + db(l.upper_bound_dbfs + offset, unit) : db(l.level_dbfs + offset, unit))
           << "</td><td class=\"num\">" << (bound ? "≤ " + db(l.upper_bound_dbc, "dBc") : db(l.level_dbc, "dBc"))
@@ -197,9 +216,9 @@ std::string plan_report_html(const PlanReport& r) {
     } else {
         o << "<table><tr><th>Frequency</th><th>Level</th><th>dBc</th><th>Above floor</th></tr>\n";
         for (const UnexplainedPeak& u : c.unexplained)
-            o << "<tr><td class=\"num\">" << freq(u.freq_hz) << "</td><td class=\"num\">" << db(u.level_dbfs + offset, unit)
-              << "</td><td class=\"num\">" << db(u.level_dbc, "dBc") << "</td><td class=\"num\">"
-              << db(u.above_floor_db, "dB") << "</td></tr>\n";
+            o << "<tr><td class=\"num\">" << freq(u.freq_hz) << "</td><td class=\"num\">"
+              << db(u.level_dbfs + offset, unit) << "</td><td class=\"num\">" << db(u.level_dbc, "dBc")
+              << "</td><td class=\"num\">" << db(u.above_floor_db, "dB") << "</td></tr>\n";
         o << "</table>\n";
         if (c.unexplained_truncated) o << "<p>More peaks were found than listed.</p>\n";
     }

@@ -9,7 +9,9 @@ namespace hb {
 namespace {
 
 // Non-finite numbers become null: JSON has no NaN, and a reader must see "no value", not a number.
-nlohmann::json num(double v) { return std::isfinite(v) ? nlohmann::json(v) : nlohmann::json(nullptr); }
+nlohmann::json num(double v) {
+    return std::isfinite(v) ? nlohmann::json(v) : nlohmann::json(nullptr);
+}
 
 nlohmann::json line_json(const LineResult& l) {
     return {
@@ -101,12 +103,14 @@ nlohmann::json plan_report_json(const PlanReport& r) {
 
     if (r.image) {
         const ImageRejection& im = *r.image;
-        j["image"] = {{"rf_hz", num(im.rf_hz)},       {"rejection_db", num(im.rejection_db)},
-                      {"lower_bound", im.lower_bound}, {"limit_db", num(im.limit_db)},
+        j["image"] = {{"rf_hz", num(im.rf_hz)},         {"rejection_db", num(im.rejection_db)},
+                      {"lower_bound", im.lower_bound},  {"limit_db", num(im.limit_db)},
                       {"status", to_string(im.status)}, {"note", im.note}};
     } else {
-        j["image"] = {{"rf_hz", nullptr},    {"rejection_db", nullptr},
-                      {"lower_bound", false}, {"limit_db", num(r.setup.plan.limits.image_rejection_db)},
+        j["image"] = {{"rf_hz", nullptr},
+                      {"rejection_db", nullptr},
+                      {"lower_bound", false},
+                      {"limit_db", num(r.setup.plan.limits.image_rejection_db)},
                       {"status", to_string(LineStatus::not_observable)},
                       {"note", "no image-band measurement in this run"}};
     }
@@ -121,9 +125,10 @@ nlohmann::json plan_report_json(const PlanReport& r) {
         {"bins", f.bins},
         {"median_bias_db", num(f.median_bias_db)},
         {"effective_averages", num(f.effective_averages)},
-        {"method", "median of the bins, divided by the median of a noise bin's distribution for this averaging "
-                   "(chi-square with Welch's equivalent degrees of freedom, or the order statistics for holds), "
-                   "second pass without bins above the 99.9 % noise quantile"},
+        {"method",
+         "median of the bins, divided by the median of a noise bin's distribution for this averaging "
+         "(chi-square with Welch's equivalent degrees of freedom, or the order statistics for holds), "
+         "second pass without bins above the 99.9 % noise quantile"},
     };
     j["setup"] = setup_to_json(r.setup);
     return j;

@@ -27,7 +27,8 @@ struct Canvas {
     }
     void set(int x, int y, Rgb c) {
         if (x < 0 || y < 0 || x >= w || y >= h) return;
-        const std::size_t i = (static_cast<std::size_t>(y) * static_cast<std::size_t>(w) + static_cast<std::size_t>(x)) * 3;
+        const std::size_t i =
+            (static_cast<std::size_t>(y) * static_cast<std::size_t>(w) + static_cast<std::size_t>(x)) * 3;
         px[i] = c.r;
         px[i + 1] = c.g;
         px[i + 2] = c.b;
@@ -69,9 +70,9 @@ std::string ascii(std::string_view s) {
         struct Sub {
             std::string_view utf8, text;
         };
-        static constexpr Sub kSubs[] = {{"\u2212", "-"}, {"\u00bd", "1/2"}, {"\u00d7", "x"},   {"\u2264", "<="},
-                                        {"\u2265", ">="}, {"\u00b7", "."},  {"\u2013", "-"},   {"\u2014", "-"},
-                                        {"\u00b5", "u"},  {"\u03bc", "u"},  {"\u00b0", " deg"}};
+        static constexpr Sub kSubs[] = {{"\u2212", "-"},  {"\u00bd", "1/2"}, {"\u00d7", "x"},   {"\u2264", "<="},
+                                        {"\u2265", ">="}, {"\u00b7", "."},   {"\u2013", "-"},   {"\u2014", "-"},
+                                        {"\u00b5", "u"},  {"\u03bc", "u"},   {"\u00b0", " deg"}};
         bool done = false;
         for (const Sub& sub : kSubs)
             if (rest.substr(0, sub.utf8.size()) == sub.utf8) {
@@ -134,7 +135,8 @@ std::vector<std::uint8_t> plan_report_png(const PlanReport& r, int width, int he
         return left + (std::isfinite(x) ? static_cast<int>(std::lround(std::clamp(x, -8.0, pw + 8.0))) : 0);
     };
     auto Y = [&](double db) {
-        return top + (std::isfinite(db) ? static_cast<int>(std::lround(p.y_of(std::clamp(db, p.db_lo, p.db_hi), ph))) : ph - 1);
+        return top + (std::isfinite(db) ? static_cast<int>(std::lround(p.y_of(std::clamp(db, p.db_lo, p.db_hi), ph)))
+                                        : ph - 1);
     };
 
     cv.rect(left, top, left + pw - 1, top + ph - 1, {255, 255, 255});

@@ -39,8 +39,8 @@ void BM_Welch(benchmark::State& state) {
         pos = (pos + kBlock) % x.size();
     }
     state.SetItemsProcessed(static_cast<std::int64_t>(state.iterations()) * static_cast<std::int64_t>(kBlock));
-    state.counters["MS/s"] = benchmark::Counter(static_cast<double>(state.iterations()) * kBlock / 1e6,
-                                                benchmark::Counter::kIsRate);
+    state.counters["MS/s"] =
+        benchmark::Counter(static_cast<double>(state.iterations()) * kBlock / 1e6, benchmark::Counter::kIsRate);
 }
 BENCHMARK(BM_Welch)
     ->Args({4096, static_cast<int>(hb::WindowType::blackman_harris), 50})
