@@ -12,6 +12,7 @@ int main(int argc, char** argv) {
     app.fallthrough(false);
     int rc = hb::cli::kExitOk;
     hb::cli::register_check(app, rc);
+    hb::cli::register_filter(app, rc);
     try {
         app.parse(argc, argv);
         if (app.get_subcommands().empty()) {

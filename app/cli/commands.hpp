@@ -12,5 +12,6 @@ inline constexpr int kExitError = 2;  // bad input, bad usage or a device error
 
 // Each register_* adds one sub-command whose callback stores its exit code in `rc`.
 void register_check(CLI::App& app, int& rc);
+void register_filter(CLI::App& app, int& rc);
 
 }  // namespace hb::cli
