@@ -243,7 +243,8 @@ double ellip_f(double phi, double m) {
     return s * carlson_rf(c * c, 1.0 - m * s * s, 1.0);
 }
 
-// Jacobi sn, cn, dn by the arithmetic-geometric mean (Abramowitz & Stegun 1964, 16.4.2-16.4.3).
+// Jacobi sn, cn by the arithmetic-geometric mean (Abramowitz & Stegun 1964, 16.4.2-16.4.3), dn from the identity
+// dn^2 + m sn^2 = 1 (A&S 16.9.1).
 void ellip_jacobi(double u, double m, double mc, double& sn, double& cn, double& dn) {
     if (m <= 0.0) {
         sn = std::sin(u);
@@ -263,14 +264,11 @@ void ellip_jacobi(double u, double m, double mc, double& sn, double& cn, double&
         ++n;
     }
     double phi = std::ldexp(a[n] * u, n);
-    double phi1 = phi;
-    for (int i = n; i >= 1; --i) {
-        phi1 = phi;
-        phi = 0.5 * (phi + std::asin(c[i] * std::sin(phi) / a[i]));
-    }
+    for (int i = n; i >= 1; --i) phi = 0.5 * (phi + std::asin(c[i] * std::sin(phi) / a[i]));
     sn = std::sin(phi);
     cn = std::cos(phi);
-    dn = n >= 1 ? cn / std::cos(phi1 - phi) : 1.0;
+    // dn^2 = 1 - m sn^2 = mc + m cn^2: the second form has no cancellation when m sn^2 is close to 1.
+    dn = std::sqrt(mc + m * cn * cn);
 }
 
 AnalogPrototype design_prototype(PrototypeKind kind, int order, double ripple_db, double stop_atten_db) {
