@@ -5,9 +5,10 @@
 
 namespace hb {
 
-FilterModel load_filter_model(const Setup& s, const FilterSpec& spec, const std::string& key, double fir_rate_hz) {
+FilterModel load_filter_model(const Setup& s, const FilterSpec& spec, const std::string& key,
+                              const std::optional<EnvelopeWindow>& window) {
     ModelOptions opt;
-    opt.fir_rate_hz = fir_rate_hz;
+    opt.fir_window = window;
     TouchstoneData data;
     if (spec.type == FilterType::touchstone) {
         if (spec.path.empty()) throw InputError(key + ".path: a touchstone filter needs the path of its .s2p file");
@@ -32,16 +33,14 @@ std::optional<EnvelopeWindow> if_window(const Setup& s) {
 }
 
 FilterModel rf_filter_model(const Setup& s) {
-    const auto w = rf_window(s);
-    return load_filter_model(s, s.rf_filter, "rf_filter", w ? w->sample_rate_hz : 0.0);
+    return load_filter_model(s, s.rf_filter, "rf_filter", rf_window(s));
 }
 
 std::vector<FilterModel> if_filter_models(const Setup& s) {
     const auto w = if_window(s);
     std::vector<FilterModel> out;
     for (std::size_t i = 0; i < s.if_filters.size(); ++i)
-        out.push_back(load_filter_model(s, s.if_filters[i], "if_filter[" + std::to_string(i) + "]",
-                                        w ? w->sample_rate_hz : 0.0));
+        out.push_back(load_filter_model(s, s.if_filters[i], "if_filter[" + std::to_string(i) + "]", w));
     return out;
 }
 

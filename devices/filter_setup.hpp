@@ -11,9 +11,10 @@
 
 namespace hb {
 
-// The model of one filter spec of `s` (key is its key path, e.g. "if_filter[1]"); fir_rate_hz as in ModelOptions.
-// Throws InputError (file and line for a bad .s2p file, key path for a bad spec).
-FilterModel load_filter_model(const Setup& s, const FilterSpec& spec, const std::string& key, double fir_rate_hz = 0);
+// The model of one filter spec of `s` (key is its key path, e.g. "if_filter[1]"); an FIR is designed for `window`
+// when given. Throws InputError (file and line for a bad .s2p file, key path for a bad spec).
+FilterModel load_filter_model(const Setup& s, const FilterSpec& spec, const std::string& key,
+                              const std::optional<EnvelopeWindow>& window = std::nullopt);
 
 // The RF window: the first source's frequency_hz and sample_rate_hz, when both are set.
 std::optional<EnvelopeWindow> rf_window(const Setup& s);

@@ -44,9 +44,10 @@ FilterChain make_filter_chain(const std::vector<FilterModel>& filters, const Cha
     for (const FilterModel& given : filters) {
         if (given.kind == ModelKind::none) continue;
         FilterModel m = given;
-        if (m.kind == ModelKind::fir && std::abs(m.fir_rate_hz - fs) > 1e-9 * fs) {
+        if (m.kind == ModelKind::fir && (std::abs(m.fir_window.sample_rate_hz - fs) > 1e-9 * fs ||
+                                         std::abs(m.fir_window.center_hz - opt.window.center_hz) > 1e-9 * fs)) {
             ModelOptions mo;
-            mo.fir_rate_hz = fs;
+            mo.fir_window = opt.window;
             m = make_filter_model(given.spec, given.name, mo);
         }
         const Realisation r = realise_filter(m, opt.window);

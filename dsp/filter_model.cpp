@@ -81,12 +81,15 @@ FilterModel make_filter_model(const FilterSpec& spec, const std::string& name, c
         m.kind = ModelKind::fir;
         const double pass = fir_pass_offset(spec);
         const double stop = pass + fir_transition_hz(spec);
-        m.fir_rate_hz = opt.fir_rate_hz > 0 ? opt.fir_rate_hz : 4.0 * stop;
         m.fir_shift_hz = bp ? spec.center_hz : 0.0;
+        m.fir_window = opt.fir_window ? *opt.fir_window : EnvelopeWindow{m.fir_shift_hz, 4.0 * stop};
+        const double rate = m.fir_window.sample_rate_hz;
+        if (!(std::isfinite(rate) && rate > 0))
+            throw InputError(name + ": an FIR needs a window with a sample rate above 0 Hz");
         m.fir = design_fir_lowpass(spec.fir_method == FirMethod::kaiser ? FirDesignMethod::kaiser
                                                                         : FirDesignMethod::parks_mcclellan,
-                                   pass / m.fir_rate_hz, stop / m.fir_rate_hz, spec.stop_atten_db, spec.ripple_db,
-                                   name + " (FIR at " + format_frequency(m.fir_rate_hz) + " sample rate)");
+                                   pass / rate, stop / rate, spec.stop_atten_db, spec.ripple_db,
+                                   name + " (FIR at " + format_frequency(rate) + " sample rate)");
         return m;
     }
     m.kind = ModelKind::analog;
@@ -105,9 +108,9 @@ std::complex<double> FilterModel::section_response(double f) const {
         case ModelKind::analog: return loss * prototype_response(proto, map.omega(f));
         case ModelKind::measured: return loss * measured.at(f);
         case ModelKind::fir: {
-            const double off = f - fir_shift_hz;
-            if (std::abs(off) > 0.5 * fir_rate_hz) return loss * amplitude_from_db(-spec.stop_atten_db);
-            return loss * dtft(fir.taps, off / fir_rate_hz);
+            if (std::abs(f - fir_window.center_hz) > 0.5 * fir_window.sample_rate_hz)
+                return loss * amplitude_from_db(-spec.stop_atten_db);
+            return loss * dtft(fir.taps, (f - fir_shift_hz) / fir_window.sample_rate_hz);
         }
     }
     return 1.0;
@@ -123,9 +126,9 @@ double FilterModel::section_group_delay(double f) const {
         }
         case ModelKind::measured: return measured.group_delay_s(f);
         case ModelKind::fir: {
-            const double off = f - fir_shift_hz;
-            if (std::abs(off) > 0.5 * fir_rate_hz) return 0.5 * double(fir.taps.size() - 1) / fir_rate_hz;
-            return fir_group_delay_samples(fir.taps, off / fir_rate_hz) / fir_rate_hz;
+            const double fs = fir_window.sample_rate_hz;
+            if (std::abs(f - fir_window.center_hz) > 0.5 * fs) return 0.5 * double(fir.taps.size() - 1) / fs;
+            return fir_group_delay_samples(fir.taps, (f - fir_shift_hz) / fs) / fs;
         }
     }
     return 0.0;
@@ -150,7 +153,7 @@ double FilterModel::section_peak() const {
             double best = 0.0;
             const double pass = fir_pass_offset(spec);
             for (int i = 0; i <= 256; ++i)
-                best = std::max(best, std::abs(dtft(fir.taps, (-pass + 2.0 * pass * i / 256.0) / fir_rate_hz)));
+                best = std::max(best, std::abs(dtft(fir.taps, (-pass + 2.0 * pass * i / 256.0) / fir_window.sample_rate_hz)));
             return loss * best;
         }
     }
@@ -158,13 +161,13 @@ double FilterModel::section_peak() const {
 }
 
 double FilterModel::valid_lo_hz() const {
-    if (kind == ModelKind::fir) return fir_shift_hz - 0.5 * fir_rate_hz;
+    if (kind == ModelKind::fir) return fir_window.center_hz - 0.5 * fir_window.sample_rate_hz;
     if (kind == ModelKind::measured && !measured.freq_hz.empty()) return measured.freq_hz.front();
     return -kInf;
 }
 
 double FilterModel::valid_hi_hz() const {
-    if (kind == ModelKind::fir) return fir_shift_hz + 0.5 * fir_rate_hz;
+    if (kind == ModelKind::fir) return fir_window.center_hz + 0.5 * fir_window.sample_rate_hz;
     if (kind == ModelKind::measured && !measured.freq_hz.empty()) return measured.freq_hz.back();
     return kInf;
 }

@@ -5,10 +5,11 @@
 //   analog types (butterworth, chebyshev1, chebyshev2, elliptic, bessel): the analog prototype through the
 //     standard low-pass -> band-pass (or low-pass) transformation, evaluated exactly at s = j 2 pi f. A real analog
 //     band-pass also passes -center_hz, which matters for envelope windows that straddle 0 Hz.
-//   fir: a digital filter exists only at a sample rate. Its design rate is the rate of the window it runs on
-//     (ModelOptions::fir_rate_hz); without one, a default rate of 4x its stop-band edge offset is used. The
-//     response is the design's DTFT within +-rate/2 of its centre; outside that range (where a digital filter has no
-//     meaning) the model reports the requested stop-band attenuation, the level it guarantees.
+//   fir: a digital filter exists only at a sample rate, on a window. It is designed for the window it runs on
+//     (ModelOptions::fir_window); without one, for a window centred on the filter at 4x its stop-band edge offset.
+//     The response is the design's (periodic) DTFT across that window; outside it (where the stream holds nothing
+//     and a digital filter has no meaning) the model reports the requested stop-band attenuation, the level the
+//     design guarantees.
 //   touchstone: measured S21, interpolated (see S21Table), held at the end values outside the measured range.
 // Insertion loss and `sections` (identical filters in series) are part of the response; the loss is per section.
 #pragma once
@@ -43,9 +44,9 @@ struct FilterModel {
     // analog
     AnalogPrototype proto;
     FrequencyMap map;
-    // fir: real low-pass taps at fir_rate_hz, moved to fir_shift_hz (centre of a band-pass, 0 for a low-pass)
+    // fir: real low-pass taps at the window rate, moved to fir_shift_hz (centre of a band-pass, 0 for a low-pass)
     FirLowpass fir;
-    double fir_rate_hz = 0.0;
+    EnvelopeWindow fir_window;  // the window it is designed for
     double fir_shift_hz = 0.0;
     // touchstone
     S21Table measured;
@@ -71,7 +72,7 @@ struct FilterModel {
 };
 
 struct ModelOptions {
-    double fir_rate_hz = 0.0;                     // FIR design rate; 0: the default (4x the stop-band edge offset)
+    std::optional<EnvelopeWindow> fir_window;      // FIR: the window it runs on; none: the default (see above)
     const TouchstoneData* touchstone = nullptr;  // the data of a touchstone filter (read in devices/)
 };
 

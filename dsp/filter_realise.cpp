@@ -235,9 +235,10 @@ Realisation realise_filter(const FilterModel& m, const EnvelopeWindow& w) {
         return r;
     }
     if (m.kind == ModelKind::fir) {
-        if (std::abs(m.fir_rate_hz - fs) > 1e-9 * fs)
-            throw InputError(m.name + ": FIR designed for " + format_frequency(m.fir_rate_hz) +
-                             " but the window runs at " + format_frequency(fs));
+        if (std::abs(m.fir_window.sample_rate_hz - fs) > 1e-9 * fs || std::abs(m.fir_window.center_hz - w.center_hz) > 1e-9 * fs)
+            throw InputError(m.name + ": FIR designed for a window at " + format_frequency(m.fir_window.center_hz) +
+                             ", " + format_frequency(m.fir_window.sample_rate_hz) + " sample rate, but runs on " +
+                             format_frequency(w.center_hz) + ", " + format_frequency(fs));
         r.form = RealisationForm::fir;
         const double shift = (m.fir_shift_hz - w.center_hz) / fs;
         r.taps.resize(m.fir.taps.size());

@@ -69,9 +69,8 @@ inline constexpr double kRealiseFloorDb = -80.0;     // absolute part, relative 
 inline constexpr double kRealiseEdgeGuard = 0.005;   // fraction of fs left out of the check at each window edge
 inline constexpr int kMaxRealisedTaps = 1 << 14;
 
-// Realises one section of `m` on `w`. For FIR-type models designed at another rate, build the model with
-// ModelOptions::fir_rate_hz = w.sample_rate_hz first (the chain does). Throws InputError when the window cannot
-// carry the filter at all (FIR model at the wrong rate).
+// Realises one section of `m` on `w`. FIR-type models must be designed for `w` (ModelOptions::fir_window; the
+// chain sees to it). Throws InputError for an FIR model designed for another window.
 Realisation realise_filter(const FilterModel& m, const EnvelopeWindow& w);
 
 // Design helpers, exposed for tests.

@@ -45,7 +45,7 @@ std::string describe(const FilterModel& m) {
             o << ", stop-band " << db(f.stop_atten_db, 1);
         if (m.kind == ModelKind::fir)
             o << ", " << to_string(f.fir_method) << ", " << m.fir.taps.size() << " taps at "
-              << freq(m.fir_rate_hz);
+              << freq(m.fir_window.sample_rate_hz);
     }
     if (f.insertion_loss_db > 0) o << ", loss " << db(f.insertion_loss_db) << " per section";
     if (f.sections > 1) o << ", " << f.sections << " sections in series";
