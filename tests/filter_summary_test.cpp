@@ -38,7 +38,9 @@ TEST(FilterSummary, ButterworthBandpassBandwidthsFromClosedForm) {
         EXPECT_NEAR(m.insertion_loss_db, 2.5, 1e-9) << n;
         EXPECT_NEAR(m.ripple_db, 0.0, 1e-9) << n;
         // The top peaks at the geometric centre (so flat for n > 2 that its position is below double resolution).
-        if (n == 2) EXPECT_NEAR(m.peak_hz, std::sqrt(450e3 * 460e3), 50.0);
+        if (n == 2) {
+            EXPECT_NEAR(m.peak_hz, std::sqrt(450e3 * 460e3), 50.0);
+        }
         // No design stop edge: the stop-band starts 2 BW(-3) from the -3 dB centre, and the least attenuation there
         // is the closed form at whichever of the two starting points is lower.
         const double f_lo = 0.5 * (m.lo3_hz + m.hi3_hz) - 2 * m.bw3_hz, f_hi = 0.5 * (m.lo3_hz + m.hi3_hz) + 2 * m.bw3_hz;
