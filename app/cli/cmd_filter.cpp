@@ -52,7 +52,7 @@ std::string describe(const FilterModel& m) {
     return o.str();
 }
 
-void print_summary(std::ostream& o, const FilterSummary& s) {
+void print_summary(std::ostringstream& o, const FilterSummary& s) {
     o << "  insertion loss        " << db(s.insertion_loss_db) << " at " << freq(s.peak_hz) << "\n";
     o << "  -3 dB bandwidth       " << freq(s.bw3_hz);
     if (std::isfinite(s.bw3_hz)) o << "  (" << freq(s.lo3_hz) << " to " << freq(s.hi3_hz) << ")";
@@ -73,7 +73,7 @@ void print_summary(std::ostream& o, const FilterSummary& s) {
     o << "\n";
 }
 
-void print_chain(std::ostream& o, const FilterChain& c, const char* what) {
+void print_chain(std::ostringstream& o, const FilterChain& c, const char* what) {
     o << "  realised on the " << what << " window " << freq(c.input.center_hz) << " +- "
       << freq(0.5 * c.input.sample_rate_hz) << " (" << freq(c.input.sample_rate_hz) << " sample rate):\n";
     for (const ChainStage& st : c.stages) {
@@ -138,7 +138,7 @@ void register_filter(CLI::App& app, int& rc) {
     cmd->add_option("--points", *points, "CSV points per filter (default 2001)")->check(CLI::Range(11, 1000000));
     cmd->callback([path, csv, points, &rc] {
         const Setup s = load_session(*path);
-        std::ostream& o = std::cout;
+        std::ostringstream o;  // printed only once everything is built: an error leaves no half report
         o << "hetbench filter: " << *path << "\n";
         o << "Levels relative to the response's peak unless stated; frequencies are absolute.\n\n";
 
@@ -206,6 +206,7 @@ void register_filter(CLI::App& app, int& rc) {
             write_csv(*csv, csv_grid(shown, *points), names, h, gd);
             o << "\nResponses written to " << *csv << "\n";
         }
+        std::cout << o.str();
         rc = kExitOk;
     });
 }
