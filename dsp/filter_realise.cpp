@@ -42,6 +42,18 @@ void add_dense(std::vector<double>& g, const FilterModel& m, const EnvelopeWindo
     }
 }
 
+}  // namespace
+
+double realise_edge_guard(const FilterModel& m, const EnvelopeWindow& w) {
+    const double floor = amplitude_from_db(kRealiseFloorDb) * m.section_peak();
+    const double fs = w.sample_rate_hz;
+    for (double nu : {-0.5 * fs, 0.5 * fs})
+        if (std::abs(m.section_response(w.center_hz + nu)) > floor) return kRealiseWideEdgeGuard;
+    return kRealiseEdgeGuard;
+}
+
+namespace {
+
 // Compares the realised response with the own response on the grid (see the tolerance in the header).
 void score(Realisation& r, const FilterModel& m, const EnvelopeWindow& w, const std::vector<double>& grid,
            const std::vector<cd>& realised) {
@@ -50,9 +62,10 @@ void score(Realisation& r, const FilterModel& m, const EnvelopeWindow& w, const 
     const double rel = amplitude_from_db(kRealiseRelativeDb) - 1.0;
     const double floor = amplitude_from_db(kRealiseFloorDb) * peak;
     const double fit_level = amplitude_from_db(-60.0) * peak;
+    r.edge_guard = realise_edge_guard(m, w);
     double worst_ratio = 0.0, worst_db = 0.0;
     for (std::size_t i = 0; i < grid.size(); ++i) {
-        if (std::abs(grid[i]) > (0.5 - kRealiseEdgeGuard) * fs) continue;
+        if (std::abs(grid[i]) > (0.5 - r.edge_guard) * fs) continue;
         const double o = std::abs(m.section_response(w.center_hz + grid[i]));
         const double q = std::abs(realised[i]);
         worst_ratio = std::max(worst_ratio, std::abs(q - o) / (rel * o + floor));
@@ -176,12 +189,38 @@ Realisation realise_sampled_fir(const FilterModel& m, const EnvelopeWindow& w, i
     const auto L = static_cast<std::size_t>(taps);
     std::size_t msize = 4096;
     while (msize < 16 * L) msize *= 2;
-    // Own response sampled around the circle (bin k <-> offset k fs/M, wrapped), then back to time.
+    // Own response sampled around the circle (bin k <-> offset k fs/M, wrapped), then back to time. Across the
+    // +-fs/2 seam (the edge guard, which the check leaves out) the target is blended smoothly from one edge's value
+    // to the other's: a response that has not died away at the window edges would otherwise jump there, and an FIR
+    // needs a transition several fs/taps wide to follow a jump.
+    auto target = [&](double nu) {
+        const cd h = m.section_response(w.center_hz + nu);
+        return linear_phase ? cd(std::abs(h)) : h;
+    };
+    const double guard = realise_edge_guard(m, w);
+    const double edge = (0.5 - guard) * fs;
+    const cd right = target(edge), left = target(-edge);
+    // The phase across the seam follows the slope it has at the edges (its group delay), taking the turn count
+    // closest to that: a blend that turned against the group delay would ask for a response before t = 0.
+    const double dnu = 1e-3 * guard * fs;
+    const double slope = 0.5 * (std::arg(target(edge) / target(edge - dnu)) + std::arg(target(-edge + dnu) / target(-edge))) / dnu;
+    const double turn_expected = slope * 2.0 * guard * fs;
+    double turn = std::remainder(std::arg(left) - std::arg(right), kTwoPi);
+    turn += kTwoPi * std::round((turn_expected - turn) / kTwoPi);
     std::vector<cd> spec(msize);
     for (std::size_t k = 0; k < msize; ++k) {
         const double nu = (k < msize / 2 ? double(k) : double(k) - double(msize)) * fs / double(msize);
-        const cd h = m.section_response(w.center_hz + nu);
-        spec[k] = linear_phase ? cd(std::abs(h)) : h;
+        if (std::abs(nu) <= edge) {
+            spec[k] = target(nu);
+        } else {
+            const double u = (nu > 0 ? nu - edge : nu + fs - edge) / (2.0 * guard * fs);  // 0 .. 1
+            const double c = 0.5 - 0.5 * std::cos(kPi * u);
+            // In magnitude and phase: a straight complex blend of two values with different phases would dip
+            // through a notch, itself a sharp feature.
+            const double mag = (1.0 - c) * std::abs(right) + c * std::abs(left);
+            const double ph = std::arg(right) + c * turn;
+            spec[k] = std::polar(mag, ph);
+        }
     }
     design_fft(spec, true);
     for (cd& v : spec) v /= double(msize);
@@ -201,13 +240,23 @@ Realisation realise_sampled_fir(const FilterModel& m, const EnvelopeWindow& w, i
         }
         r.delay_samples = mid;
     } else {
-        // Causal response, started a few samples early to keep the ringing that the window's band limit puts
-        // before t = 0; half-Hann tapers over that pre-delay and over the last quarter.
-        const int pre = std::max(2, taps / 32);
+        // Causal response, started early enough to keep the ringing that the window's band limit puts before t = 0
+        // (long for responses that fall slowly, e.g. a single resonator: everything earlier is below 1e-6 of the
+        // peak, or a quarter of the length at most); half-Hann tapers over the first quarter of that pre-delay and
+        // over the last quarter of the taps.
+        double hpk = 0.0;
+        for (const cd& v : spec) hpk = std::max(hpk, std::abs(v));
+        int pre = 2;
+        for (int n = taps / 4; n > 2; --n)
+            if (std::abs(spec[wrap(-n)]) > 1e-6 * hpk) {
+                pre = n + 1;
+                break;
+            }
+        const int rise = std::max(1, pre / 4);
         const int fall = std::max(2, taps / 4);
         for (int n = 0; n < taps; ++n) {
             double wv = 1.0;
-            if (n < pre) wv = 0.5 - 0.5 * std::cos(kPi * (n + 0.5) / pre);
+            if (n < rise) wv = 0.5 - 0.5 * std::cos(kPi * (n + 0.5) / rise);
             if (n >= taps - fall) wv = 0.5 + 0.5 * std::cos(kPi * (n - (taps - fall) + 0.5) / fall);
             r.taps[static_cast<std::size_t>(n)] = spec[wrap(n - pre)] * wv;
         }

@@ -21,8 +21,10 @@
 //  FIR-type filters are already digital: their taps (designed at the window rate) are used as they are.
 //
 // Tolerance (checked on an even grid over the window, plus a dense grid over the pass-band and skirts for the
-// sections; the outer 0.5 % at each window edge is left out, since a periodic response cannot follow an analog
-// one across the +-fs/2 seam):
+// sections). A digital response is periodic, so at the +-fs/2 seam it must get from one edge's value to the
+// other's: the outer 0.5 % of the window at each edge is left out of the check, and the outer 5 % when the own
+// response has not fallen below the floor below at the window edges (a filter wider than its window; the
+// frequency-sampled FIR blends across that seam so that it stays short):
 //     | |H_real| - |H_own| |  <=  0.05 dB of |H_own|  +  1e-4 (-80 dB) of the section's peak
 // i.e. 0.05 dB in the pass-band, 0.1 dB at -30 dB, 0.3 dB at -50 dB, 0.9 dB at -60 dB; where the own response is
 // below about -80 dB the realisation only has to stay below about -74 dB. This is the "agree where (1) is above
@@ -58,6 +60,7 @@ struct Realisation {
     int delay_samples = 0;    // bulk delay the realisation adds to the own response's phase
     double fit_error_db = 0;  // largest |dB difference| to the own response where that is within 60 dB of its peak
     double tolerance_ratio = 0;  // largest error / allowed error over the window: <= 1 means within tolerance
+    double edge_guard = 0;       // fraction of the rate left out of the check at each window edge
     bool within_tolerance() const { return tolerance_ratio <= 1.0; }
     std::string why;  // one line: the form chosen and why
     // Response of the realised section at offset nu_hz from the window centre, without the bulk delay.
@@ -67,6 +70,10 @@ struct Realisation {
 inline constexpr double kRealiseRelativeDb = 0.05;   // pass-band part of the tolerance
 inline constexpr double kRealiseFloorDb = -80.0;     // absolute part, relative to the section's peak
 inline constexpr double kRealiseEdgeGuard = 0.005;   // fraction of fs left out of the check at each window edge
+inline constexpr double kRealiseWideEdgeGuard = 0.05;  // the same when the response is above the floor there
+
+// The edge guard for a filter on a window (kRealiseEdgeGuard or kRealiseWideEdgeGuard).
+double realise_edge_guard(const FilterModel& m, const EnvelopeWindow& w);
 inline constexpr int kMaxRealisedTaps = 1 << 14;
 
 // Realises one section of `m` on `w`. FIR-type models must be designed for `w` (ModelOptions::fir_window; the

@@ -174,7 +174,7 @@ TEST(FilterRealise, EnvelopeResponseMatchesOwnResponse) {
         double worst = 0, worst_nu = 0, worst_code = 0;
         for (std::size_t k = 0; k < meas.nu.size(); ++k) {
             const double nu = meas.nu[k];
-            if (std::abs(nu) > (0.5 - kRealiseEdgeGuard) * fs) continue;
+            if (std::abs(nu) > (0.5 - r.edge_guard) * fs) continue;
             const double own = std::abs(m.response(c.window.center_hz + nu));
             const double got = std::abs(meas.h[k]);
             const double ratio = std::abs(got - own) / (rel * own + floor);
@@ -196,6 +196,16 @@ TEST(FilterRealise, EnvelopeResponseMatchesOwnResponse) {
             ASSERT_LE(std::abs(dphi), 0.01) << c.what << " at offset " << meas.nu[k] << " Hz";
         }
     }
+}
+
+TEST(FilterRealise, EdgeGuardWidensOnlyWhenTheResponseReachesTheWindowEdges) {
+    // A narrow filter that is far below -80 dB at the window edges: only 0.5 % is left out. An elliptic with a
+    // -60 dB floor (never below -80 dB), or a filter wider than its window: 5 %.
+    const auto narrow = make_filter_model(spec(FilterType::butterworth, FilterResponse::bandpass, 455e3, 10e3, 4), "n");
+    EXPECT_EQ(realise_edge_guard(narrow, {455e3, 2.4e6}), kRealiseEdgeGuard);
+    EXPECT_EQ(realise_edge_guard(narrow, {455e3, 40e3}), kRealiseWideEdgeGuard);
+    const auto floor = make_filter_model(spec(FilterType::elliptic, FilterResponse::bandpass, 455e3, 6e3, 6), "f");
+    EXPECT_EQ(realise_edge_guard(floor, {455e3, 2.4e6}), kRealiseWideEdgeGuard);
 }
 
 TEST(FilterRealise, TwoSectionsSquareTheResponse) {

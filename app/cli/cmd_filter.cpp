@@ -81,6 +81,9 @@ void print_chain(std::ostringstream& o, const FilterChain& c, const char* what) 
         if (st.label != "anti-alias" && st.realisation.form != RealisationForm::identity) {
             o << "; fit " << db(st.realisation.fit_error_db, 3) << " where the response is within 60 dB of its peak";
             if (st.realisation.delay_samples) o << "; adds " << st.realisation.delay_samples << " samples of delay";
+            if (st.realisation.edge_guard > kRealiseEdgeGuard)
+                o << "; checked over the inner " << 100 - 200 * st.realisation.edge_guard
+                  << " % of the window (the response is above -80 dB at its edges)";
         }
         if (st.decimates) o << "; decimates by " << c.decimation << " to " << freq(c.output.sample_rate_hz);
         o << "\n";
