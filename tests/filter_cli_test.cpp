@@ -63,6 +63,19 @@ TEST(FilterCommand, ButterworthFiguresAndCsvMatchTheClosedForm) {
     }
 }
 
+TEST(FilterCommand, PresetsAreShownWithTheirFigures) {
+    test::TempDir tmp;
+    const auto csv = tmp.file("p.csv");
+    const auto r = test::run_hetbench({"filter", "--presets", "--csv", csv.string()});
+    ASSERT_EQ(r.exit_code, 0) << r.err;
+    for (const auto& p : filter_presets()) EXPECT_NE(r.out.find(std::string(p.name) + ": "), std::string::npos);
+    EXPECT_NE(r.out.find("stop-band rejection   50.0 dB"), std::string::npos) << r.out;  // the ceramic floors
+    const auto rows = read_csv(csv);
+    ASSERT_GT(rows.size(), 100u);
+    EXPECT_EQ(rows[0][1], "ceramic_10m7_db");
+    EXPECT_EQ(test::run_hetbench({"filter"}).exit_code, 2);  // neither a session nor --presets
+}
+
 TEST(FilterCommand, ContractScriptPassesTheFilterItem) {
     const auto shared = test::shared_dir();
     if (!shared) GTEST_SKIP() << "../shared is absent (a fresh clone): the interface contract script is not here";

@@ -1,5 +1,6 @@
 // hetbench filter SESSION.toml [--csv FILE]: the summary figures of the RF filter, of each IF filter and of the IF
 // cascade, and how each is realised on its window when the session gives one; --csv writes the responses.
+// hetbench filter --presets [--csv FILE]: the same for every named preset.
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
@@ -11,6 +12,7 @@
 #include "devices/filter_setup.hpp"
 #include "devices/session.hpp"
 #include "dsp/errors.hpp"
+#include "dsp/filter_presets.hpp"
 #include "dsp/filter_summary.hpp"
 #include "dsp/units.hpp"
 
@@ -129,6 +131,34 @@ void write_csv(const std::string& path, const std::vector<double>& grid, const s
     if (!out) throw InputError(path + ": write failed (disk full?)");
 }
 
+void show_presets(const std::string& csv, int points) {
+    std::ostringstream o;
+    o << "hetbench filter presets (values are common practice for each class, not the data of any one part)\n";
+    std::vector<FilterModel> models;
+    for (const FilterPreset& p : filter_presets()) models.push_back(make_filter_model(p.spec, std::string(p.name)));
+    std::vector<std::pair<const FilterModel*, FilterSummary>> shown;
+    std::vector<std::string> names;
+    std::vector<ResponseFn> h;
+    std::vector<DelayFn> gd;
+    for (std::size_t i = 0; i < models.size(); ++i) {
+        const FilterModel& m = models[i];
+        o << "\n" << m.name << ": " << filter_presets()[i].description << "\n  " << describe(m) << "\n";
+        const FilterSummary sm = summarise(m);
+        print_summary(o, sm);
+        shown.emplace_back(&m, sm);
+        std::string n = m.name;
+        std::replace(n.begin(), n.end(), '-', '_');
+        names.push_back(n);
+        h.push_back([&m](double f) { return m.response(f); });
+        gd.push_back([&m](double f) { return m.group_delay(f); });
+    }
+    if (!csv.empty()) {
+        write_csv(csv, csv_grid(shown, points), names, h, gd);
+        o << "\nResponses written to " << csv << "\n";
+    }
+    std::cout << o.str();
+}
+
 }  // namespace
 
 void register_filter(CLI::App& app, int& rc) {
@@ -136,10 +166,18 @@ void register_filter(CLI::App& app, int& rc) {
     auto path = std::make_shared<std::string>();
     auto csv = std::make_shared<std::string>();
     auto points = std::make_shared<int>(2001);
-    cmd->add_option("session", *path, "Session file (TOML)")->required();
+    auto presets = std::make_shared<bool>(false);
+    cmd->add_option("session", *path, "Session file (TOML)");
+    cmd->add_flag("--presets", *presets, "Show every filter preset (name, description, figures) instead of a session");
     cmd->add_option("--csv", *csv, "Write the responses to this CSV file (freq_hz, then dB, phase, group delay)");
     cmd->add_option("--points", *points, "CSV points per filter (default 2001)")->check(CLI::Range(11, 1000000));
-    cmd->callback([path, csv, points, &rc] {
+    cmd->callback([path, csv, points, presets, &rc] {
+        if (*presets) {
+            show_presets(*csv, *points);
+            rc = kExitOk;
+            return;
+        }
+        if (path->empty()) throw InputError("filter: give a session file, or --presets");
         const Setup s = load_session(*path);
         std::ostringstream o;  // printed only once everything is built: an error leaves no half report
         o << "hetbench filter: " << *path << "\n";
