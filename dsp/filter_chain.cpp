@@ -103,8 +103,9 @@ std::size_t FilterChain::process(const cf32* in, std::size_t n, cf32* out) {
                     st.mirror.process(t, m);
                     const cf32 d(static_cast<float>(r.direct.real()), static_cast<float>(r.direct.imag()));
                     if (d != cf32(0.0f))
-                        for (std::size_t i = 0; i < m; ++i) t[i] += cf32(d.real() * b[i].real() - d.imag() * b[i].imag(),
-                                                                         d.real() * b[i].imag() + d.imag() * b[i].real());
+                        for (std::size_t i = 0; i < m; ++i)
+                            t[i] += cf32(d.real() * b[i].real() - d.imag() * b[i].imag(),
+                                         d.real() * b[i].imag() + d.imag() * b[i].real());
                     st.main.process(b, m);
                     for (std::size_t i = 0; i < m; ++i) b[i] += t[i];
                 } else {

@@ -23,7 +23,7 @@ namespace hb {
 struct ChainOptions {
     EnvelopeWindow window;  // the input stream
     int decimation = 1;
-    double gain_db = 0.0;   // applied once, at the input
+    double gain_db = 0.0;          // applied once, at the input
     std::size_t max_block = 4096;  // internal block size; any n can be passed to process()
 };
 

@@ -154,8 +154,8 @@ FirLowpass design_fir_lowpass(FirDesignMethod method, double fp, double fs, doub
         if (n > max_taps || (method == FirDesignMethod::parks_mcclellan && n > pm_limit))
             throw InputError(what + ": needs more than " +
                              std::to_string(method == FirDesignMethod::parks_mcclellan ? pm_limit : max_taps) +
-                             " taps for " + format_number(atten_db) + " dB over a transition of " +
-                             format_number(df) + " of the sample rate" +
+                             " taps for " + format_number(atten_db) + " dB over a transition of " + format_number(df) +
+                             " of the sample rate" +
                              (method == FirDesignMethod::parks_mcclellan ? "; use fir_method = \"kaiser\"" : "") +
                              ", or widen transition_hz");
         if (method == FirDesignMethod::kaiser) {

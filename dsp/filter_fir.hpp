@@ -37,8 +37,8 @@ enum class FirDesignMethod { kaiser, parks_mcclellan };
 
 struct FirLowpass {
     std::vector<double> taps;
-    double beta = 0.0;          // Kaiser only
-    double achieved_atten_db = 0.0;  // measured: -(largest stop-band level)
+    double beta = 0.0;                        // Kaiser only
+    double achieved_atten_db = 0.0;           // measured: -(largest stop-band level)
     double pass_edge = 0.0, stop_edge = 0.0;  // fractions of the rate
 };
 

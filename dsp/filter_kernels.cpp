@@ -22,7 +22,9 @@ void PoleCascadeKernel::init(const std::vector<PoleSection>& secs) {
     state.assign(2 * (sections + 1), 0.0f);
 }
 
-void PoleCascadeKernel::reset() { std::fill(state.begin(), state.end(), 0.0f); }
+void PoleCascadeKernel::reset() {
+    std::fill(state.begin(), state.end(), 0.0f);
+}
 
 void PoleCascadeKernel::process(cf32* io, std::size_t n) {
     if (sections == 0) return;

@@ -28,8 +28,8 @@ struct PoleCascadeKernel {
 // FIR with complex taps on planar (separate re/im) history, computing only the outputs it is asked for: every
 // output with decimation 1, or one in `decimation` (the polyphase saving: no discarded output is computed).
 struct FirKernel {
-    std::size_t taps = 0;     // real length
-    std::size_t padded = 0;   // length rounded up to the vector width; the extra taps are zero
+    std::size_t taps = 0;       // real length
+    std::size_t padded = 0;     // length rounded up to the vector width; the extra taps are zero
     std::vector<float> hr, hi;  // taps reversed: hr[j] = Re h[padded - 1 - j]
     std::vector<float> xr, xi;  // padded - 1 samples of history, then the current block
     std::size_t block = 0;

@@ -35,22 +35,33 @@ double fir_group_delay_samples(const std::vector<double>& h, double f) {
 
 PrototypeKind prototype_kind(FilterType t) {
     switch (t) {
-        case FilterType::chebyshev1: return PrototypeKind::chebyshev1;
-        case FilterType::chebyshev2: return PrototypeKind::chebyshev2;
-        case FilterType::elliptic: return PrototypeKind::elliptic;
-        case FilterType::bessel: return PrototypeKind::bessel;
-        default: return PrototypeKind::butterworth;
+        case FilterType::chebyshev1:
+            return PrototypeKind::chebyshev1;
+        case FilterType::chebyshev2:
+            return PrototypeKind::chebyshev2;
+        case FilterType::elliptic:
+            return PrototypeKind::elliptic;
+        case FilterType::bessel:
+            return PrototypeKind::bessel;
+        default:
+            return PrototypeKind::butterworth;
     }
 }
 
-bool bandpass(const FilterSpec& s) { return s.response == FilterResponse::bandpass; }
+bool bandpass(const FilterSpec& s) {
+    return s.response == FilterResponse::bandpass;
+}
 
 // Offset of the FIR pass-band edge from its centre (band-pass: half the width; low-pass: the width).
-double fir_pass_offset(const FilterSpec& s) { return bandpass(s) ? 0.5 * s.bandwidth_hz : s.bandwidth_hz; }
+double fir_pass_offset(const FilterSpec& s) {
+    return bandpass(s) ? 0.5 * s.bandwidth_hz : s.bandwidth_hz;
+}
 
 }  // namespace
 
-double fir_transition_hz(const FilterSpec& s) { return s.transition_hz > 0 ? s.transition_hz : 0.25 * s.bandwidth_hz; }
+double fir_transition_hz(const FilterSpec& s) {
+    return s.transition_hz > 0 ? s.transition_hz : 0.25 * s.bandwidth_hz;
+}
 
 FilterModel make_filter_model(const FilterSpec& spec, const std::string& name, const ModelOptions& opt) {
     FilterModel m;
@@ -64,8 +75,7 @@ FilterModel make_filter_model(const FilterSpec& spec, const std::string& name, c
                          ", expected 0 to 300 dB");
     m.loss = amplitude_from_db(-spec.insertion_loss_db);
     if (spec.type == FilterType::touchstone) {
-        if (!opt.touchstone)
-            throw InputError(name + ": the touchstone data (" + spec.path + ") was not loaded");
+        if (!opt.touchstone) throw InputError(name + ": the touchstone data (" + spec.path + ") was not loaded");
         m.kind = ModelKind::measured;
         m.measured = s21_table(*opt.touchstone);
         return m;
@@ -86,10 +96,10 @@ FilterModel make_filter_model(const FilterSpec& spec, const std::string& name, c
         const double rate = m.fir_window.sample_rate_hz;
         if (!(std::isfinite(rate) && rate > 0))
             throw InputError(name + ": an FIR needs a window with a sample rate above 0 Hz");
-        m.fir = design_fir_lowpass(spec.fir_method == FirMethod::kaiser ? FirDesignMethod::kaiser
-                                                                        : FirDesignMethod::parks_mcclellan,
-                                   pass / rate, stop / rate, spec.stop_atten_db, spec.ripple_db,
-                                   name + " (FIR at " + format_frequency(rate) + " sample rate)");
+        m.fir = design_fir_lowpass(
+            spec.fir_method == FirMethod::kaiser ? FirDesignMethod::kaiser : FirDesignMethod::parks_mcclellan,
+            pass / rate, stop / rate, spec.stop_atten_db, spec.ripple_db,
+            name + " (FIR at " + format_frequency(rate) + " sample rate)");
         return m;
     }
     m.kind = ModelKind::analog;
@@ -104,9 +114,12 @@ FilterModel make_filter_model(const FilterSpec& spec, const std::string& name, c
 
 std::complex<double> FilterModel::section_response(double f) const {
     switch (kind) {
-        case ModelKind::none: return 1.0;
-        case ModelKind::analog: return loss * prototype_response(proto, map.omega(f));
-        case ModelKind::measured: return loss * measured.at(f);
+        case ModelKind::none:
+            return 1.0;
+        case ModelKind::analog:
+            return loss * prototype_response(proto, map.omega(f));
+        case ModelKind::measured:
+            return loss * measured.at(f);
         case ModelKind::fir: {
             if (std::abs(f - fir_window.center_hz) > 0.5 * fir_window.sample_rate_hz)
                 return loss * amplitude_from_db(-spec.stop_atten_db);
@@ -118,13 +131,15 @@ std::complex<double> FilterModel::section_response(double f) const {
 
 double FilterModel::section_group_delay(double f) const {
     switch (kind) {
-        case ModelKind::none: return 0.0;
+        case ModelKind::none:
+            return 0.0;
         case ModelKind::analog: {
             const double om = map.omega(f);
             if (std::isinf(om)) return 0.0;
             return prototype_group_delay(proto, om) * map.domega_df(f) / kTwoPi;
         }
-        case ModelKind::measured: return measured.group_delay_s(f);
+        case ModelKind::measured:
+            return measured.group_delay_s(f);
         case ModelKind::fir: {
             const double fs = fir_window.sample_rate_hz;
             if (std::abs(f - fir_window.center_hz) > 0.5 * fs) return 0.5 * double(fir.taps.size() - 1) / fs;
@@ -145,15 +160,19 @@ double FilterModel::group_delay(double f) const {
 
 double FilterModel::section_peak() const {
     switch (kind) {
-        case ModelKind::none: return 1.0;
-        case ModelKind::analog: return loss;  // prototypes peak at exactly 1
-        case ModelKind::measured: return loss * measured.peak_gain();
+        case ModelKind::none:
+            return 1.0;
+        case ModelKind::analog:
+            return loss;  // prototypes peak at exactly 1
+        case ModelKind::measured:
+            return loss * measured.peak_gain();
         case ModelKind::fir: {
             // Equiripple designs overshoot 1 by the pass-band ripple; scan the pass-band.
             double best = 0.0;
             const double pass = fir_pass_offset(spec);
             for (int i = 0; i <= 256; ++i)
-                best = std::max(best, std::abs(dtft(fir.taps, (-pass + 2.0 * pass * i / 256.0) / fir_window.sample_rate_hz)));
+                best = std::max(best,
+                                std::abs(dtft(fir.taps, (-pass + 2.0 * pass * i / 256.0) / fir_window.sample_rate_hz)));
             return loss * best;
         }
     }
@@ -204,7 +223,9 @@ std::optional<double> FilterModel::stop_edge_offset_hz() const {
     return std::nullopt;
 }
 
-std::complex<double> filter_response(const FilterModel& m, double f) { return m.response(f); }
+std::complex<double> filter_response(const FilterModel& m, double f) {
+    return m.response(f);
+}
 
 std::complex<double> filter_response(const FilterSpec& spec, double f) {
     return make_filter_model(spec, spec.preset.empty() ? "filter" : spec.preset).response(f);

@@ -72,7 +72,7 @@ struct FilterModel {
 };
 
 struct ModelOptions {
-    std::optional<EnvelopeWindow> fir_window;      // FIR: the window it runs on; none: the default (see above)
+    std::optional<EnvelopeWindow> fir_window;    // FIR: the window it runs on; none: the default (see above)
     const TouchstoneData* touchstone = nullptr;  // the data of a touchstone filter (read in devices/)
 };
 

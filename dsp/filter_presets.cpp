@@ -43,7 +43,9 @@ const std::array<FilterPreset, 3> kPresets{{
 
 }  // namespace
 
-std::span<const FilterPreset> filter_presets() { return kPresets; }
+std::span<const FilterPreset> filter_presets() {
+    return kPresets;
+}
 
 std::optional<FilterSpec> filter_preset(std::string_view name) {
     for (const auto& p : kPresets)

@@ -209,7 +209,8 @@ AnalogPrototype bessel(int n) {
         if (worst < 1e-17L) break;
     }
     AnalogPrototype p;
-    for (const cld& r : z) p.poles.emplace_back(double(r.real()), std::abs(r.imag()) < 1e-14L * std::abs(r) ? 0.0 : double(r.imag()));
+    for (const cld& r : z)
+        p.poles.emplace_back(double(r.real()), std::abs(r.imag()) < 1e-14L * std::abs(r) ? 0.0 : double(r.imag()));
     normalise_dc(p, 1.0);
     // |H(jw)| falls monotonically: bracket and bisect the -3 dB point.
     auto mag2 = [&](double w) { return std::norm(prototype_response(p, w)); };
@@ -274,8 +275,11 @@ void ellip_jacobi(double u, double m, double mc, double& sn, double& cn, double&
 AnalogPrototype design_prototype(PrototypeKind kind, int order, double ripple_db, double stop_atten_db) {
     require_order(order);
     switch (kind) {
-        case PrototypeKind::butterworth: return butterworth(order);
-        case PrototypeKind::chebyshev1: require_db("pass-band ripple", ripple_db); return chebyshev1(order, ripple_db);
+        case PrototypeKind::butterworth:
+            return butterworth(order);
+        case PrototypeKind::chebyshev1:
+            require_db("pass-band ripple", ripple_db);
+            return chebyshev1(order, ripple_db);
         case PrototypeKind::chebyshev2:
             require_db("stop-band attenuation", stop_atten_db);
             return chebyshev2(order, stop_atten_db);
@@ -283,7 +287,8 @@ AnalogPrototype design_prototype(PrototypeKind kind, int order, double ripple_db
             require_db("pass-band ripple", ripple_db);
             require_db("stop-band attenuation", stop_atten_db);
             return elliptic(order, ripple_db, stop_atten_db);
-        case PrototypeKind::bessel: return bessel(order);
+        case PrototypeKind::bessel:
+            return bessel(order);
     }
     return butterworth(order);
 }

@@ -49,9 +49,9 @@ double prototype_group_delay(const AnalogPrototype& p, double omega);
 //   Omega = (f^2 - f0^2) / (f B)   [the standard s -> (s^2 + w0^2)/(s B) substitution on s = j 2 pi f]
 struct FrequencyMap {
     bool bandpass = false;
-    double edge_hz = 1.0;    // low-pass
-    double f0_hz = 0.0;      // band-pass geometric centre
-    double width_hz = 1.0;   // band-pass B = f2 - f1
+    double edge_hz = 1.0;   // low-pass
+    double f0_hz = 0.0;     // band-pass geometric centre
+    double width_hz = 1.0;  // band-pass B = f2 - f1
     double omega(double f_hz) const;
     double domega_df(double f_hz) const;  // dOmega/df, for group delay
     // The two absolute frequencies (> 0 for band-pass; +-f for low-pass) where the prototype frequency is +-Omega.
@@ -64,8 +64,8 @@ FrequencyMap bandpass_map(double center_hz, double width_hz);
 
 // Elliptic-function helpers (exposed for tests). m is the parameter (m = k^2), mc = 1 - m given separately so that
 // values of m close to 1 keep their precision.
-double ellip_k(double mc);                                     // complete integral K(m), from mc = 1 - m
-double ellip_f(double phi, double m);                          // incomplete integral F(phi | m), |phi| <= pi/2
+double ellip_k(double mc);             // complete integral K(m), from mc = 1 - m
+double ellip_f(double phi, double m);  // incomplete integral F(phi | m), |phi| <= pi/2
 void ellip_jacobi(double u, double m, double mc, double& sn, double& cn, double& dn);
 
 }  // namespace hb

@@ -142,7 +142,9 @@ std::vector<PoleSection> map_band(const FilterModel& m, const EnvelopeWindow& w,
     return secs;
 }
 
-bool inside(double f, const EnvelopeWindow& w) { return std::abs(f - w.center_hz) < 0.49 * w.sample_rate_hz; }
+bool inside(double f, const EnvelopeWindow& w) {
+    return std::abs(f - w.center_hz) < 0.49 * w.sample_rate_hz;
+}
 
 }  // namespace
 
@@ -150,11 +152,13 @@ cd Realisation::response(double nu, double fs) const {
     const double th = kTwoPi * nu / fs;
     const cd zi = std::polar(1.0, -th);  // z^-1
     switch (form) {
-        case RealisationForm::identity: return 1.0;
+        case RealisationForm::identity:
+            return 1.0;
         case RealisationForm::pole_sections:
             return cascade_at(sections, zi) +
                    (mirror_sections.empty() ? cd(0.0) : cascade_at(mirror_sections, zi) + direct);
-        case RealisationForm::fir: return fir_response_at(taps, th) * std::polar(1.0, th * delay_samples);
+        case RealisationForm::fir:
+            return fir_response_at(taps, th) * std::polar(1.0, th * delay_samples);
     }
     return 1.0;
 }
@@ -203,7 +207,8 @@ Realisation realise_sampled_fir(const FilterModel& m, const EnvelopeWindow& w, i
     // The phase across the seam follows the slope it has at the edges (its group delay), taking the turn count
     // closest to that: a blend that turned against the group delay would ask for a response before t = 0.
     const double dnu = 1e-3 * guard * fs;
-    const double slope = 0.5 * (std::arg(target(edge) / target(edge - dnu)) + std::arg(target(-edge + dnu) / target(-edge))) / dnu;
+    const double slope =
+        0.5 * (std::arg(target(edge) / target(edge - dnu)) + std::arg(target(-edge + dnu) / target(-edge))) / dnu;
     const double turn_expected = slope * 2.0 * guard * fs;
     double turn = std::remainder(std::arg(left) - std::arg(right), kTwoPi);
     turn += kTwoPi * std::round((turn_expected - turn) / kTwoPi);
@@ -284,7 +289,8 @@ Realisation realise_filter(const FilterModel& m, const EnvelopeWindow& w) {
         return r;
     }
     if (m.kind == ModelKind::fir) {
-        if (std::abs(m.fir_window.sample_rate_hz - fs) > 1e-9 * fs || std::abs(m.fir_window.center_hz - w.center_hz) > 1e-9 * fs)
+        if (std::abs(m.fir_window.sample_rate_hz - fs) > 1e-9 * fs ||
+            std::abs(m.fir_window.center_hz - w.center_hz) > 1e-9 * fs)
             throw InputError(m.name + ": FIR designed for a window at " + format_frequency(m.fir_window.center_hz) +
                              ", " + format_frequency(m.fir_window.sample_rate_hz) + " sample rate, but runs on " +
                              format_frequency(w.center_hz) + ", " + format_frequency(fs));

@@ -57,8 +57,8 @@ struct Realisation {
     // counts that floor twice; the direct path takes one away.
     std::complex<double> direct = 0.0;
     std::vector<std::complex<double>> taps;  // fir: one filter section (complex taps on the envelope)
-    int delay_samples = 0;    // bulk delay the realisation adds to the own response's phase
-    double fit_error_db = 0;  // largest |dB difference| to the own response where that is within 60 dB of its peak
+    int delay_samples = 0;                   // bulk delay the realisation adds to the own response's phase
+    double fit_error_db = 0;     // largest |dB difference| to the own response where that is within 60 dB of its peak
     double tolerance_ratio = 0;  // largest error / allowed error over the window: <= 1 means within tolerance
     double edge_guard = 0;       // fraction of the rate left out of the check at each window edge
     bool within_tolerance() const { return tolerance_ratio <= 1.0; }
@@ -67,9 +67,9 @@ struct Realisation {
     std::complex<double> response(double nu_hz, double fs) const;
 };
 
-inline constexpr double kRealiseRelativeDb = 0.05;   // pass-band part of the tolerance
-inline constexpr double kRealiseFloorDb = -80.0;     // absolute part, relative to the section's peak
-inline constexpr double kRealiseEdgeGuard = 0.005;   // fraction of fs left out of the check at each window edge
+inline constexpr double kRealiseRelativeDb = 0.05;     // pass-band part of the tolerance
+inline constexpr double kRealiseFloorDb = -80.0;       // absolute part, relative to the section's peak
+inline constexpr double kRealiseEdgeGuard = 0.005;     // fraction of fs left out of the check at each window edge
 inline constexpr double kRealiseWideEdgeGuard = 0.05;  // the same when the response is above the floor there
 
 // The edge guard for a filter on a window (kRealiseEdgeGuard or kRealiseWideEdgeGuard).

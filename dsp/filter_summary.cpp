@@ -11,7 +11,9 @@ namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
-double level_db(const ResponseFn& h, double f) { return 20.0 * std::log10(std::max(std::abs(h(f)), 1e-20)); }
+double level_db(const ResponseFn& h, double f) {
+    return 20.0 * std::log10(std::max(std::abs(h(f)), 1e-20));
+}
 
 // Walks from `from` in direction `dir` (+1/-1) in growing steps (2 % of the distance, at least `first`) until the
 // level drops below `target`; bisects the crossing. NaN when `limit` comes first.
@@ -200,7 +202,8 @@ FilterSummary summarise(const std::vector<FilterModel>& ms) {
         if (m.kind == ModelKind::none) continue;
         k.valid_lo_hz = std::max(k.valid_lo_hz, m.valid_lo_hz());
         k.valid_hi_hz = std::min(k.valid_hi_hz, m.valid_hi_hz());
-        if (const auto e = m.stop_edge_offset_hz()) k.stop_offset_hz = k.stop_offset_hz ? std::min(*k.stop_offset_hz, *e) : *e;
+        if (const auto e = m.stop_edge_offset_hz())
+            k.stop_offset_hz = k.stop_offset_hz ? std::min(*k.stop_offset_hz, *e) : *e;
         if (!guide || (m.kind != ModelKind::measured && m.spec.bandwidth_hz < guide->spec.bandwidth_hz)) guide = &m;
     }
     if (!guide) return summarise_response([](double) { return std::complex<double>(1.0); }, {true, 0, 1, 0, 1, {}});

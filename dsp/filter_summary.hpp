@@ -51,7 +51,7 @@ struct FilterSummary {
     double ripple_db = 0.0;
     double stop_offset_hz = 0.0;  // the stop-band starts this far from the -3 dB centre
     double stop_rejection_db = 0.0;
-    double stop_worst_hz = 0.0;   // where the least rejection is
+    double stop_worst_hz = 0.0;  // where the least rejection is
 };
 
 // What the search needs to know about a response.

@@ -80,38 +80,49 @@ TouchstoneData parse_touchstone(std::string_view text, const std::string& name) 
             for (std::size_t i = 1; i < tok.size(); ++i) words.push_back(lower(tok[i]));
             for (std::size_t i = 0; i < words.size(); ++i) {
                 const std::string& w = words[i];
-                if (w == "hz") d.unit_hz = 1.0;
-                else if (w == "khz") d.unit_hz = 1e3;
-                else if (w == "mhz") d.unit_hz = 1e6;
-                else if (w == "ghz") d.unit_hz = 1e9;
-                else if (w == "s") continue;
+                if (w == "hz")
+                    d.unit_hz = 1.0;
+                else if (w == "khz")
+                    d.unit_hz = 1e3;
+                else if (w == "mhz")
+                    d.unit_hz = 1e6;
+                else if (w == "ghz")
+                    d.unit_hz = 1e9;
+                else if (w == "s")
+                    continue;
                 else if (w == "y" || w == "z" || w == "h" || w == "g")
-                    fail(name, line_no, "option line: " + w +
-                                            "-parameters are not supported; a filter needs S-parameters (S21)");
-                else if (w == "ma") d.format = TouchstoneFormat::ma;
-                else if (w == "db") d.format = TouchstoneFormat::db;
-                else if (w == "ri") d.format = TouchstoneFormat::ri;
+                    fail(name, line_no,
+                         "option line: " + w + "-parameters are not supported; a filter needs S-parameters (S21)");
+                else if (w == "ma")
+                    d.format = TouchstoneFormat::ma;
+                else if (w == "db")
+                    d.format = TouchstoneFormat::db;
+                else if (w == "ri")
+                    d.format = TouchstoneFormat::ri;
                 else if (w == "r") {
                     double r = 0;
                     if (i + 1 >= words.size() || !to_number(words[i + 1], r) || r <= 0)
-                        fail(name, line_no, "option line: R must be followed by a positive reference resistance in ohms" +
-                                                std::string(i + 1 < words.size() ? ", got " + quote(words[i + 1]) : ""));
+                        fail(name, line_no,
+                             "option line: R must be followed by a positive reference resistance in ohms" +
+                                 std::string(i + 1 < words.size() ? ", got " + quote(words[i + 1]) : ""));
                     d.reference_ohms = r;
                     ++i;
                 } else
-                    fail(name, line_no, "option line: unknown token " + quote(w) +
-                                            "; expected # [Hz|kHz|MHz|GHz] [S] [MA|DB|RI] [R ohms]");
+                    fail(name, line_no,
+                         "option line: unknown token " + quote(w) +
+                             "; expected # [Hz|kHz|MHz|GHz] [S] [MA|DB|RI] [R ohms]");
             }
             continue;
         }
         if (tok[0].front() == '[')
-            fail(name, line_no, "Touchstone 2 keyword " + quote(tok[0]) +
-                                    " is not supported; save the file as Touchstone version 1 (.s2p)");
+            fail(name, line_no,
+                 "Touchstone 2 keyword " + quote(tok[0]) +
+                     " is not supported; save the file as Touchstone version 1 (.s2p)");
         std::vector<double> v(tok.size());
         for (std::size_t i = 0; i < tok.size(); ++i)
             if (!to_number(tok[i], v[i]))
-                fail(name, line_no, "column " + std::to_string(i + 1) + ": expected a finite number, got " +
-                                        quote(tok[i]));
+                fail(name, line_no,
+                     "column " + std::to_string(i + 1) + ": expected a finite number, got " + quote(tok[i]));
         const double f = v[0] * d.unit_hz;
         if (f < 0) fail(name, line_no, "negative frequency " + format_number(v[0]));
         if (in_noise || (!d.freq_hz.empty() && f <= d.freq_hz.back() && v.size() == 5)) {
@@ -119,30 +130,39 @@ TouchstoneData parse_touchstone(std::string_view text, const std::string& name) 
             if (v.size() != 5)
                 fail(name, line_no, "noise-parameter data: expected 5 numbers, got " + std::to_string(v.size()));
             if (in_noise && f <= last_noise_f)
-                fail(name, line_no, "noise-parameter frequencies must increase: " + format_number(v[0]) +
-                                        " after " + format_number(last_noise_f / d.unit_hz));
+                fail(name, line_no,
+                     "noise-parameter frequencies must increase: " + format_number(v[0]) + " after " +
+                         format_number(last_noise_f / d.unit_hz));
             in_noise = true;
             last_noise_f = f;
             continue;
         }
         if (v.size() != 9)
-            fail(name, line_no, "expected 9 numbers for a two-port file (frequency, then S11 S21 S12 S22 as pairs), got " +
-                                    std::to_string(v.size()) +
-                                    (v.size() == 3 ? " (a one-port .s1p file has no S21)" : ""));
+            fail(name, line_no,
+                 "expected 9 numbers for a two-port file (frequency, then S11 S21 S12 S22 as pairs), got " +
+                     std::to_string(v.size()) + (v.size() == 3 ? " (a one-port .s1p file has no S21)" : ""));
         if (!d.freq_hz.empty() && f <= d.freq_hz.back())
-            fail(name, line_no, "frequencies must increase: " + format_number(v[0]) + " after " +
-                                    format_number(d.freq_hz.back() / d.unit_hz));
+            fail(name, line_no,
+                 "frequencies must increase: " + format_number(v[0]) + " after " +
+                     format_number(d.freq_hz.back() / d.unit_hz));
         std::array<std::complex<double>, 4> s;
         for (int k = 0; k < 4; ++k) {
             const double a = v[1 + 2 * k], b = v[2 + 2 * k];
             switch (d.format) {
-                case TouchstoneFormat::ri: s[k] = {a, b}; break;
-                case TouchstoneFormat::ma: s[k] = std::polar(a, b * kPi / 180.0); break;
-                case TouchstoneFormat::db: s[k] = std::polar(std::pow(10.0, a / 20.0), b * kPi / 180.0); break;
+                case TouchstoneFormat::ri:
+                    s[k] = {a, b};
+                    break;
+                case TouchstoneFormat::ma:
+                    s[k] = std::polar(a, b * kPi / 180.0);
+                    break;
+                case TouchstoneFormat::db:
+                    s[k] = std::polar(std::pow(10.0, a / 20.0), b * kPi / 180.0);
+                    break;
             }
             if (d.format == TouchstoneFormat::ma && a < 0)
-                fail(name, line_no, "column " + std::to_string(2 + 2 * k) + ": a magnitude cannot be negative (" +
-                                        format_number(a) + ")");
+                fail(name, line_no,
+                     "column " + std::to_string(2 + 2 * k) + ": a magnitude cannot be negative (" + format_number(a) +
+                         ")");
         }
         d.freq_hz.push_back(f);
         d.s.push_back(s);
@@ -150,8 +170,8 @@ TouchstoneData parse_touchstone(std::string_view text, const std::string& name) 
         if (eol == text.size()) break;
     }
     if (d.freq_hz.size() < 2)
-        fail(name, line_no, "needs at least 2 frequency points of two-port data, found " +
-                                std::to_string(d.freq_hz.size()));
+        fail(name, line_no,
+             "needs at least 2 frequency points of two-port data, found " + std::to_string(d.freq_hz.size()));
     return d;
 }
 

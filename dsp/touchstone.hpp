@@ -32,7 +32,7 @@ struct TouchstoneData {
     double unit_hz = 1e9;  // frequency multiplier from the option line
     std::vector<double> freq_hz;
     std::vector<std::array<std::complex<double>, 4>> s;  // S11, S21, S12, S22 at each frequency
-    std::vector<int> line;                                // source line of each frequency point
+    std::vector<int> line;                               // source line of each frequency point
 };
 
 // Parses two-port Touchstone v1 text. `name` prefixes every message ("name:line: ..."). Throws InputError.

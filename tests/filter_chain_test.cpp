@@ -1,14 +1,14 @@
 // The streaming kernels and the chain: kernels against liquid-dsp and a double-precision reference, decimation
 // against filter-then-discard, state across calls, reset, gain, in-place use.
+#include "dsp/filter_chain.hpp"
+
 #include <gtest/gtest.h>
+#include <liquid/liquid.h>
 
 #include <cmath>
 #include <complex>  // before liquid.h, so liquid_float_complex is std::complex<float>
 #include <random>
 
-#include <liquid/liquid.h>
-
-#include "dsp/filter_chain.hpp"
 #include "dsp/filter_kernels.hpp"
 #include "dsp/units.hpp"
 
@@ -148,9 +148,9 @@ TEST(FilterChain, DecimationEqualsFilterThenDiscard) {
     ModelOptions mo;
     mo.fir_window = w;
     expect_decimation_is_discard({make_filter_model(fir, "fir", mo)}, w, 8, "FIR last");
-    expect_decimation_is_discard({make_filter_model(bp(FilterType::elliptic, 455e3, 10e3, 5), "iir"),
-                                  make_filter_model(fir, "fir", mo)},
-                                 w, 5, "IIR then FIR");
+    expect_decimation_is_discard(
+        {make_filter_model(bp(FilterType::elliptic, 455e3, 10e3, 5), "iir"), make_filter_model(fir, "fir", mo)}, w, 5,
+        "IIR then FIR");
     // An IIR last filter gets the automatic anti-alias FIR, which decimates.
     FilterChain c = make_filter_chain({make_filter_model(bp(FilterType::butterworth, 455e3, 10e3, 4), "iir")},
                                       ChainOptions{w, 8, 0.0, 4096});
@@ -193,7 +193,8 @@ TEST(FilterChain, StateResetGainAndInPlace) {
     FilterChain b = make_filter_chain({m}, ChainOptions{w, 1, 0.0, 1024});
     std::vector<cf32> g(x.size());
     b.process(x.data(), x.size(), g.data());
-    for (std::size_t i = 0; i < x.size(); ++i) ASSERT_NEAR(std::abs(one[i] - 10.0f * g[i]), 0.0, 1e-4 * (1 + std::abs(one[i])));
+    for (std::size_t i = 0; i < x.size(); ++i)
+        ASSERT_NEAR(std::abs(one[i] - 10.0f * g[i]), 0.0, 1e-4 * (1 + std::abs(one[i])));
     // The designed chain response includes the gain.
     EXPECT_NEAR(std::abs(a.response(10.7e6)) / std::abs(b.response(10.7e6)), 10.0, 1e-5);
 }

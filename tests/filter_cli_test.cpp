@@ -36,7 +36,8 @@ TEST(FilterCommand, ButterworthFiguresAndCsvMatchTheClosedForm) {
     // checked row by row against 10 log10(1 + W^8), W = (f^2 - f0^2)/(f B) (RV B1 with the band-pass transform).
     test::TempDir tmp;
     const auto session = tmp.file("s.toml"), csv = tmp.file("r.csv");
-    test::write_file(session, kPlan + "[[if_filter]]\ntype = \"butterworth\"\ncenter_hz = 455e3\nbandwidth_hz = 10e3\norder = 4\n");
+    test::write_file(
+        session, kPlan + "[[if_filter]]\ntype = \"butterworth\"\ncenter_hz = 455e3\nbandwidth_hz = 10e3\norder = 4\n");
     const auto r = test::run_hetbench({"filter", session.string(), "--csv", csv.string()});
     ASSERT_EQ(r.exit_code, 0) << r.err;
     // -60 dB width = (10^6 - 1)^(1/8) * 10 kHz = 56.23413 kHz; shape factor 56.234/9.994 = 5.627.
@@ -79,14 +80,16 @@ TEST(FilterCommand, PresetsAreShownWithTheirFigures) {
 TEST(FilterCommand, ContractScriptPassesTheFilterItem) {
     const auto shared = test::shared_dir();
     if (!shared) GTEST_SKIP() << "../shared is absent (a fresh clone): the interface contract script is not here";
-    const auto r = test::run({"/usr/bin/python3", (*shared / "checks" / "contract.py").string(), test::hetbench_exe().string()});
+    const auto r =
+        test::run({"/usr/bin/python3", (*shared / "checks" / "contract.py").string(), test::hetbench_exe().string()});
     EXPECT_NE(r.out.find("ok        filter --csv FILE"), std::string::npos) << r.out << r.err;
 }
 
 TEST(FilterSession, PresetFillsKeysAndExplicitKeysOverride) {
-    const hb::Setup s = parse_session(kPlan + "[rf_filter]\npreset = \"ceramic-10m7\"\norder = 2\ncenter_hz = \"10.65M\"\n"
+    const hb::Setup s = parse_session(kPlan +
+                                          "[rf_filter]\npreset = \"ceramic-10m7\"\norder = 2\ncenter_hz = \"10.65M\"\n"
                                           "[[if_filter]]\npreset = \"ceramic-455k\"\nsections = 2\n",
-                                  "p.toml");
+                                      "p.toml");
     const FilterSpec ceramic = *filter_preset("ceramic-10m7");
     EXPECT_EQ(s.rf_filter.type, ceramic.type);
     EXPECT_EQ(s.rf_filter.order, 2);
@@ -114,11 +117,13 @@ void expect_refused(const std::string& body, const std::vector<std::string>& nee
 TEST(FilterSession, BadFilterValuesAreRefusedWithTheirKeyPath) {
     expect_refused("[[if_filter]]\npreset = \"ceramic-11m\"\n",
                    {"if_filter[0].preset", "ceramic-11m", "ceramic-10m7|ceramic-455k"});
-    expect_refused("[rf_filter]\ntype = \"elliptic\"\ncenter_hz = 1e6\nbandwidth_hz = 1e5\nripple_db = 3\nstop_atten_db = 3\n",
-                   {"rf_filter.stop_atten_db", "more stop-band attenuation than ripple"});
-    expect_refused("[[if_filter]]\ntype = \"fir\"\nfir_method = \"parks-mcclellan\"\ncenter_hz = 455e3\nbandwidth_hz = 1e4\n"
-                   "ripple_db = 0\n",
-                   {"if_filter[0].ripple_db"});
+    expect_refused(
+        "[rf_filter]\ntype = \"elliptic\"\ncenter_hz = 1e6\nbandwidth_hz = 1e5\nripple_db = 3\nstop_atten_db = 3\n",
+        {"rf_filter.stop_atten_db", "more stop-band attenuation than ripple"});
+    expect_refused(
+        "[[if_filter]]\ntype = \"fir\"\nfir_method = \"parks-mcclellan\"\ncenter_hz = 455e3\nbandwidth_hz = 1e4\n"
+        "ripple_db = 0\n",
+        {"if_filter[0].ripple_db"});
     expect_refused("[[if_filter]]\ntype = \"touchstone\"\npath = \"f.s2p\"\nsections = 0\n", {"if_filter[0].sections"});
 }
 
@@ -134,8 +139,9 @@ TEST(FilterCommand, BadTouchstoneFileExitsTwoNamingTheFile) {
     EXPECT_EQ(r.exit_code, 2);
     EXPECT_NE(r.err.find("ceramic.s2p:3:"), std::string::npos) << r.err;
     // An FIR that cannot be built on the session's IF window: exit 2, naming the filter.
-    test::write_file(session, kPlan + "[if_chain]\nsample_rate_hz = 20e3\n[[if_filter]]\ntype = \"fir\"\n"
-                                      "center_hz = 455e3\nbandwidth_hz = 10e3\ntransition_hz = 8e3\n");
+    test::write_file(session, kPlan +
+                                  "[if_chain]\nsample_rate_hz = 20e3\n[[if_filter]]\ntype = \"fir\"\n"
+                                  "center_hz = 455e3\nbandwidth_hz = 10e3\ntransition_hz = 8e3\n");
     r = test::run_hetbench({"filter", session.string()});
     EXPECT_EQ(r.exit_code, 2);
     EXPECT_NE(r.err.find("if_filter[0]"), std::string::npos) << r.err;
@@ -144,9 +150,10 @@ TEST(FilterCommand, BadTouchstoneFileExitsTwoNamingTheFile) {
 TEST(FilterCommand, ShowsTheRealisationOnTheSessionWindows) {
     test::TempDir tmp;
     const auto session = tmp.file("w.toml");
-    test::write_file(session, kPlan + "[[source]]\nkind = \"generator\"\nfrequency_hz = 1.2e6\nsample_rate_hz = 2.4e6\n"
-                                      "[rf_filter]\ntype = \"butterworth\"\ncenter_hz = 1e6\nbandwidth_hz = 200e3\n"
-                                      "[[if_filter]]\npreset = \"ceramic-455k\"\n[if_chain]\ndecimation = 8\n");
+    test::write_file(session, kPlan +
+                                  "[[source]]\nkind = \"generator\"\nfrequency_hz = 1.2e6\nsample_rate_hz = 2.4e6\n"
+                                  "[rf_filter]\ntype = \"butterworth\"\ncenter_hz = 1e6\nbandwidth_hz = 200e3\n"
+                                  "[[if_filter]]\npreset = \"ceramic-455k\"\n[if_chain]\ndecimation = 8\n");
     const auto r = test::run_hetbench({"filter", session.string()});
     ASSERT_EQ(r.exit_code, 0) << r.err;
     EXPECT_NE(r.out.find("realised on the RF window 1.2 MHz"), std::string::npos) << r.out;

@@ -14,13 +14,16 @@
 namespace hb {
 namespace {
 
-double atten_db(const AnalogPrototype& p, double w) { return -20.0 * std::log10(std::abs(prototype_response(p, w))); }
+double atten_db(const AnalogPrototype& p, double w) {
+    return -20.0 * std::log10(std::abs(prototype_response(p, w)));
+}
 
 // Runs a python snippet with numpy/scipy and returns the numbers it prints. Empty when scipy is missing.
 std::optional<std::vector<double>> scipy_numbers(const std::string& script) {
     const auto py = test::python_with_scipy();
     if (!py) return std::nullopt;
-    const auto r = test::run({*py, "-c", "import numpy as np, scipy.signal as sg\nfrom scipy.optimize import brentq\n" + script});
+    const auto r =
+        test::run({*py, "-c", "import numpy as np, scipy.signal as sg\nfrom scipy.optimize import brentq\n" + script});
     EXPECT_EQ(r.exit_code, 0) << r.err;
     std::istringstream in(r.out);
     std::vector<double> v;
@@ -124,7 +127,8 @@ TEST(FilterPrototype, AllTypesAgreeWithScipyAnalogPrototypes) {
     const PrototypeKind kinds[] = {PrototypeKind::butterworth, PrototypeKind::chebyshev1, PrototypeKind::chebyshev2,
                                    PrototypeKind::elliptic, PrototypeKind::bessel};
     const std::vector<int> orders = {1, 2, 3, 4, 5, 7, 8, 12, 16, 20};
-    std::string script = "w=np.array(" + list(w) + ")\n"
+    std::string script = "w=np.array(" + list(w) +
+                         ")\n"
                          "def proto(t,n):\n"
                          "  if t=='butter': return sg.buttap(n)\n"
                          "  if t=='cheby1': return sg.cheb1ap(n,0.5)\n"
@@ -134,7 +138,9 @@ TEST(FilterPrototype, AllTypesAgreeWithScipyAnalogPrototypes) {
                          "  w3=brentq(lambda x: abs(sg.freqs_zpk(z,p,k,[x])[1][0])**2-0.5,1e-9,1)\n"
                          "  return z/w3,p/w3,k*w3**(len(z)-len(p))\n"
                          "for t in ['butter','cheby1','cheby2','ellip','bessel']:\n"
-                         " for n in " + list(std::vector<double>(orders.begin(), orders.end())) + ":\n"
+                         " for n in " +
+                         list(std::vector<double>(orders.begin(), orders.end())) +
+                         ":\n"
                          "  z,p,k=proto(t,int(n))\n"
                          "  h=sg.freqs_zpk(z,p,k,w)[1]\n"
                          "  e=1e-6; hp=sg.freqs_zpk(z,p,k,w+e)[1]; hm=sg.freqs_zpk(z,p,k,w-e)[1]\n"
@@ -161,7 +167,8 @@ TEST(FilterPrototype, AllTypesAgreeWithScipyAnalogPrototypes) {
                 // Group delay: 1e-5 relative covers scipy's finite difference, except on the sharpest resonances
                 // (high-order elliptic at the band edge, delays of thousands) where the difference step is coarse.
                 const double gd = (*ref)[at + 2 * w.size() + i];
-                EXPECT_NEAR(prototype_group_delay(p, w[i]), gd, (std::abs(gd) > 100 ? 1e-3 : 1e-5) * std::abs(gd) + 1e-7)
+                EXPECT_NEAR(prototype_group_delay(p, w[i]), gd,
+                            (std::abs(gd) > 100 ? 1e-3 : 1e-5) * std::abs(gd) + 1e-7)
                     << names[t] << " n=" << n << " w=" << w[i];
             }
             at += per;
@@ -174,7 +181,8 @@ TEST(FilterModel, BandpassAgreesWithScipyAnalogBandpass) {
     const double fc = 10.7e6, bw = 200e3;
     const std::vector<double> f = {1e6, 9.9e6, 10.45e6, 10.6e6, 10.63e6, 10.7e6, 10.79e6, 10.95e6, 12e6, 40e6};
     std::string script =
-        "f=np.array(" + list(f) + "); w=2*np.pi*f\n"
+        "f=np.array(" + list(f) +
+        "); w=2*np.pi*f\n"
         "f1,f2=10.6e6,10.8e6; w0=2*np.pi*np.sqrt(f1*f2); B=2*np.pi*(f2-f1)\n"
         "def edges(Bx): r=np.sqrt(Bx*Bx+4*w0*w0); return [(r-Bx)/2,(r+Bx)/2]\n"
         "z,p,k=sg.cheb2ap(5,50); w3=brentq(lambda x: abs(sg.freqs_zpk(z,p,k,[x])[1][0])**2-0.5,1e-9,1)\n"
@@ -251,7 +259,8 @@ TEST(FilterFir, KaiserTapsMatchScipyFirwin) {
     const std::vector<std::pair<int, double>> cases = {{38, 0.25}, {101, 0.07}, {64, 0.31}};
     std::string script;
     for (const auto& [n, fc] : cases)
-        script += "print(*sg.firwin(" + std::to_string(n) + "," + std::to_string(fc) + ",window=('kaiser',7.2),fs=1))\n";
+        script +=
+            "print(*sg.firwin(" + std::to_string(n) + "," + std::to_string(fc) + ",window=('kaiser',7.2),fs=1))\n";
     const auto ref = scipy_numbers(script);
     if (!ref) GTEST_SKIP() << "python3 with numpy and scipy not found (Debian: python3-scipy)";
     std::size_t at = 0;

@@ -19,7 +19,8 @@ using cd = std::complex<double>;
 std::optional<std::vector<double>> scipy_numbers(const std::string& script) {
     const auto py = test::python_with_scipy();
     if (!py) return std::nullopt;
-    const auto r = test::run({*py, "-c", "import numpy as np, scipy.signal as sg\nfrom scipy.optimize import brentq\n" + script});
+    const auto r =
+        test::run({*py, "-c", "import numpy as np, scipy.signal as sg\nfrom scipy.optimize import brentq\n" + script});
     EXPECT_EQ(r.exit_code, 0) << r.err;
     std::istringstream in(r.out);
     std::vector<double> v;
@@ -129,27 +130,49 @@ TEST(FilterRealise, EnvelopeResponseMatchesOwnResponse) {
     // over the window less 0.5 % at each edge. Measured here through the float kernels, so it also proves that
     // the kernels run the designed coefficients (second check: measured vs the chain's computed response, 5e-5).
     const std::vector<Case> cases = {
-        {"narrow IF on a wide window that reaches -455 kHz", spec(FilterType::butterworth, FilterResponse::bandpass, 455e3, 10e3, 4),
-         {455e3, 2.4e6}, RealisationForm::pole_sections},
-        {"same filter, 200 kHz window", spec(FilterType::butterworth, FilterResponse::bandpass, 455e3, 10e3, 4),
-         {455e3, 200e3}, RealisationForm::fir},
-        {"Chebyshev I, 6 kHz, 200 kHz window", spec(FilterType::chebyshev1, FilterResponse::bandpass, 455e3, 6e3, 6),
-         {455e3, 200e3}, RealisationForm::pole_sections},
-        {"elliptic on a tight 48 kHz window", spec(FilterType::elliptic, FilterResponse::bandpass, 455e3, 6e3, 6),
-         {455e3, 48e3}, RealisationForm::fir},
-        {"inverse Chebyshev 10.7 MHz ceramic class", spec(FilterType::chebyshev2, FilterResponse::bandpass, 10.7e6, 200e3, 4),
-         {10.7e6, 2.4e6}, RealisationForm::fir},
-        {"RF preselector, window straddling 0 Hz", spec(FilterType::butterworth, FilterResponse::bandpass, 1e6, 200e3, 4),
-         {1.2e6, 2.4e6}, RealisationForm::fir},
-        {"Bessel low-pass at baseband", spec(FilterType::bessel, FilterResponse::lowpass, 0, 5e3, 5),
-         {0.0, 1e6}, RealisationForm::pole_sections},
-        {"wider Bessel low-pass: slow skirts, warped", spec(FilterType::bessel, FilterResponse::lowpass, 0, 20e3, 5),
-         {0.0, 1e6}, RealisationForm::fir},
-        {"off-centre window, narrow elliptic", spec(FilterType::elliptic, FilterResponse::bandpass, 10.7e6, 15e3, 5),
-         {10.4e6, 2e6}, RealisationForm::pole_sections},
-        {"Kaiser FIR band-pass", spec(FilterType::fir, FilterResponse::bandpass, 455e3, 10e3, 0), {450e3, 100e3},
+        {"narrow IF on a wide window that reaches -455 kHz",
+         spec(FilterType::butterworth, FilterResponse::bandpass, 455e3, 10e3, 4),
+         {455e3, 2.4e6},
+         RealisationForm::pole_sections},
+        {"same filter, 200 kHz window",
+         spec(FilterType::butterworth, FilterResponse::bandpass, 455e3, 10e3, 4),
+         {455e3, 200e3},
          RealisationForm::fir},
-        {"Parks-McClellan FIR low-pass", spec(FilterType::fir, FilterResponse::lowpass, 0, 10e3, 0), {2e3, 100e3},
+        {"Chebyshev I, 6 kHz, 200 kHz window",
+         spec(FilterType::chebyshev1, FilterResponse::bandpass, 455e3, 6e3, 6),
+         {455e3, 200e3},
+         RealisationForm::pole_sections},
+        {"elliptic on a tight 48 kHz window",
+         spec(FilterType::elliptic, FilterResponse::bandpass, 455e3, 6e3, 6),
+         {455e3, 48e3},
+         RealisationForm::fir},
+        {"inverse Chebyshev 10.7 MHz ceramic class",
+         spec(FilterType::chebyshev2, FilterResponse::bandpass, 10.7e6, 200e3, 4),
+         {10.7e6, 2.4e6},
+         RealisationForm::fir},
+        {"RF preselector, window straddling 0 Hz",
+         spec(FilterType::butterworth, FilterResponse::bandpass, 1e6, 200e3, 4),
+         {1.2e6, 2.4e6},
+         RealisationForm::fir},
+        {"Bessel low-pass at baseband",
+         spec(FilterType::bessel, FilterResponse::lowpass, 0, 5e3, 5),
+         {0.0, 1e6},
+         RealisationForm::pole_sections},
+        {"wider Bessel low-pass: slow skirts, warped",
+         spec(FilterType::bessel, FilterResponse::lowpass, 0, 20e3, 5),
+         {0.0, 1e6},
+         RealisationForm::fir},
+        {"off-centre window, narrow elliptic",
+         spec(FilterType::elliptic, FilterResponse::bandpass, 10.7e6, 15e3, 5),
+         {10.4e6, 2e6},
+         RealisationForm::pole_sections},
+        {"Kaiser FIR band-pass",
+         spec(FilterType::fir, FilterResponse::bandpass, 455e3, 10e3, 0),
+         {450e3, 100e3},
+         RealisationForm::fir},
+        {"Parks-McClellan FIR low-pass",
+         spec(FilterType::fir, FilterResponse::lowpass, 0, 10e3, 0),
+         {2e3, 100e3},
          RealisationForm::fir},
     };
     for (Case c : cases) {
@@ -190,9 +213,8 @@ TEST(FilterRealise, EnvelopeResponseMatchesOwnResponse) {
             const cd own = m.response(f);
             if (std::abs(own) < amplitude_from_db(-3) * peak || std::abs(meas.nu[k]) > 0.45 * fs) continue;
             const double th = kTwoPi * meas.nu[k] / fs;
-            const double dphi = std::remainder(std::arg(meas.h[k] * std::polar(1.0, th * chain.delay_samples())) -
-                                                   std::arg(own),
-                                               kTwoPi);
+            const double dphi = std::remainder(
+                std::arg(meas.h[k] * std::polar(1.0, th * chain.delay_samples())) - std::arg(own), kTwoPi);
             ASSERT_LE(std::abs(dphi), 0.01) << c.what << " at offset " << meas.nu[k] << " Hz";
         }
     }

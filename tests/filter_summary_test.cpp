@@ -1,10 +1,11 @@
 // Summary figures against closed forms: -3/-60 dB bandwidths, shape factor, ripple, stop-band rejection, loss.
+#include "dsp/filter_summary.hpp"
+
 #include <gtest/gtest.h>
 
 #include <cmath>
 
 #include "dsp/filter_presets.hpp"
-#include "dsp/filter_summary.hpp"
 #include "dsp/touchstone.hpp"
 #include "dsp/units.hpp"
 
@@ -43,7 +44,8 @@ TEST(FilterSummary, ButterworthBandpassBandwidthsFromClosedForm) {
         }
         // No design stop edge: the stop-band starts 2 BW(-3) from the -3 dB centre, and the least attenuation there
         // is the closed form at whichever of the two starting points is lower.
-        const double f_lo = 0.5 * (m.lo3_hz + m.hi3_hz) - 2 * m.bw3_hz, f_hi = 0.5 * (m.lo3_hz + m.hi3_hz) + 2 * m.bw3_hz;
+        const double f_lo = 0.5 * (m.lo3_hz + m.hi3_hz) - 2 * m.bw3_hz,
+                     f_hi = 0.5 * (m.lo3_hz + m.hi3_hz) + 2 * m.bw3_hz;
         auto att = [&](double f) {
             const double f0sq = 450e3 * 460e3, w = (f * f - f0sq) / (f * 10e3);
             return 10 * std::log10(1 + std::pow(w * w, n));
@@ -56,7 +58,8 @@ TEST(FilterSummary, ChebyshevRippleAndHalfPowerEdges) {
     // Chebyshev I low-pass, 0.5 dB: ripple 0.5 dB; the 3.000 dB edge from 10 log10(1 + eps^2 Tn(W)^2) = 3:
     // W = cosh(acosh(sqrt(10^0.3 - 1)/eps)/n) (RV C2 form).
     for (int n : {3, 4, 5, 8}) {
-        const FilterSummary m = summarise(make_filter_model(spec(FilterType::chebyshev1, FilterResponse::lowpass, 0, 1e3, n), "c"));
+        const FilterSummary m =
+            summarise(make_filter_model(spec(FilterType::chebyshev1, FilterResponse::lowpass, 0, 1e3, n), "c"));
         const double eps = std::sqrt(std::pow(10.0, 0.05) - 1);
         const double w3 = std::cosh(std::acosh(std::sqrt(std::pow(10.0, 0.3) - 1) / eps) / n);
         EXPECT_TRUE(m.lowpass);

@@ -26,7 +26,10 @@ struct Resonator {
     double z0 = 50, r = 5, f0 = 10.7e6, q = 50;
     double l() const { return q * (2 * z0 + r) / (kTwoPi * f0); }
     double c() const { return 1.0 / (std::pow(kTwoPi * f0, 2) * l()); }
-    cd z(double f) const { const double w = kTwoPi * f; return {r, w * l() - 1.0 / (w * c())}; }
+    cd z(double f) const {
+        const double w = kTwoPi * f;
+        return {r, w * l() - 1.0 / (w * c())};
+    }
     cd s21(double f) const { return 2 * z0 / (2 * z0 + z(f)); }
     cd s11(double f) const { return z(f) / (2 * z0 + z(f)); }
     // -d(arg S21)/d(omega) = (dX/dw) / (2 Z0 + R) / (1 + (X / (2 Z0 + R))^2), dX/dw = L + 1/(w^2 C).
@@ -75,9 +78,10 @@ TEST(Touchstone, ParsesOptionsFormatsAndUnits) {
     }
     // Defaults (no option line: GHz, S, MA, R 50), any case, tokens in any order, comments after data, and a
     // noise-parameter block (frequency restarts, 5 columns) that is read past.
-    const TouchstoneData d = parse_touchstone("1 0.5 0 0.9 -10 0.9 -10 0.5 0 ! first\n2 0.5 0 0.8 -20 0.8 -20 0.5 0\n"
-                                              "1 1.5 0.3 20 0.6\n2 1.7 0.3 25 0.6\n",
-                                              "defaults.s2p");
+    const TouchstoneData d = parse_touchstone(
+        "1 0.5 0 0.9 -10 0.9 -10 0.5 0 ! first\n2 0.5 0 0.8 -20 0.8 -20 0.5 0\n"
+        "1 1.5 0.3 20 0.6\n2 1.7 0.3 25 0.6\n",
+        "defaults.s2p");
     ASSERT_EQ(d.freq_hz.size(), 2u);
     EXPECT_DOUBLE_EQ(d.freq_hz[1], 2e9);
     EXPECT_NEAR(std::abs(d.s[0][1] - std::polar(0.9, -10 * kPi / 180)), 0.0, 1e-15);
@@ -186,13 +190,15 @@ TEST(Touchstone, AnalyticResponseRoundTripsWithin005dB) {
             const double nu = (k < n / 2 ? double(k) : double(k) - double(n)) * w.sample_rate_hz / double(n);
             const double fr = w.center_hz + nu;
             const cd want = res.s21(fr);
-            if (std::abs(want) < peak * 0.01 || std::abs(nu) > (0.5 - c.stages[0].realisation.edge_guard) * w.sample_rate_hz)
+            if (std::abs(want) < peak * 0.01 ||
+                std::abs(nu) > (0.5 - c.stages[0].realisation.edge_guard) * w.sample_rate_hz)
                 continue;
             // Everywhere but the window's edges: the stated realisation tolerance (0.05 dB + 1e-4 of the peak). The
             // resonator is still -14 dB at the edges of this window, so the wide edge guard (5 %) applies.
             EXPECT_EQ(c.stages[0].realisation.edge_guard, kRealiseWideEdgeGuard);
             EXPECT_LE(std::abs(std::abs(x[k]) - std::abs(want)),
-                      (amplitude_from_db(0.05) - 1) * std::abs(want) + 1e-4 * peak) << fr;
+                      (amplitude_from_db(0.05) - 1) * std::abs(want) + 1e-4 * peak)
+                << fr;
             // The inner 80 % (away from the +-fs/2 seam a periodic response must cross): 0.05 dB and 0.01 rad.
             if (std::abs(nu) > 0.4 * w.sample_rate_hz) continue;
             EXPECT_NEAR(db_from_amplitude(std::abs(x[k])), db_from_amplitude(std::abs(want)), 0.05) << fr;
@@ -206,7 +212,8 @@ TEST(Touchstone, AnalyticResponseRoundTripsWithin005dB) {
             // Linear phase: a pure delay of (taps-1)/2 samples, i.e. constant group delay.
             EXPECT_EQ(c.delay_samples(), static_cast<int>(c.stages[0].realisation.taps.size() - 1) / 2);
             const auto& t = c.stages[0].realisation.taps;
-            for (std::size_t i = 0; i < t.size(); ++i) EXPECT_NEAR(std::abs(t[i] - std::conj(t[t.size() - 1 - i])), 0.0, 1e-12);
+            for (std::size_t i = 0; i < t.size(); ++i)
+                EXPECT_NEAR(std::abs(t[i] - std::conj(t[t.size() - 1 - i])), 0.0, 1e-12);
         }
     }
 }

@@ -27,7 +27,9 @@ std::string db(double v, int decimals = 2) {
     return b;
 }
 
-std::string freq(double hz) { return std::isfinite(hz) ? format_frequency(hz, 7) : "not reached"; }
+std::string freq(double hz) {
+    return std::isfinite(hz) ? format_frequency(hz, 7) : "not reached";
+}
 
 std::string describe(const FilterModel& m) {
     const FilterSpec& f = m.spec;
@@ -226,7 +228,8 @@ void register_filter(CLI::App& app, int& rc) {
         const auto iw = if_window(s);
         if (active.empty()) {
             o << "\nIF chain: no IF filters";
-            if (s.if_chain.decimation > 1) o << " (decimation by " << s.if_chain.decimation << " with its anti-alias filter)";
+            if (s.if_chain.decimation > 1)
+                o << " (decimation by " << s.if_chain.decimation << " with its anti-alias filter)";
             o << ", gain " << db(s.if_chain.gain_db) << "\n";
         } else {
             o << "\nIF chain: " << active.size() << " filter" << (active.size() > 1 ? "s" : "") << " in series, gain "

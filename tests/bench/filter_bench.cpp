@@ -2,11 +2,10 @@
 //   build/tests/bench/filter_bench --benchmark_min_time=0.5
 // liquid-dsp's scalar equivalents run alongside for comparison.
 #include <benchmark/benchmark.h>
+#include <liquid/liquid.h>
 
 #include <complex>  // before liquid.h, so liquid_float_complex is std::complex<float>
 #include <random>
-
-#include <liquid/liquid.h>
 
 #include "dsp/filter_chain.hpp"
 #include "dsp/filter_kernels.hpp"
@@ -45,8 +44,12 @@ void fir(benchmark::State& st, int decimation) {
     }
     st.SetItemsProcessed(static_cast<int64_t>(st.iterations() * kBlock));
 }
-void BM_Fir(benchmark::State& st) { fir(st, 1); }
-void BM_FirDecim8(benchmark::State& st) { fir(st, 8); }
+void BM_Fir(benchmark::State& st) {
+    fir(st, 1);
+}
+void BM_FirDecim8(benchmark::State& st) {
+    fir(st, 8);
+}
 BENCHMARK(BM_Fir)->Arg(128);
 BENCHMARK(BM_FirDecim8)->Arg(128);
 
