@@ -1,13 +1,16 @@
 // The streaming kernels and the chain: kernels against liquid-dsp and a double-precision reference, decimation
 // against filter-then-discard, state across calls, reset, gain, in-place use.
-#include "dsp/filter_chain.hpp"
-
 #include <gtest/gtest.h>
-#include <liquid/liquid.h>
 
 #include <cmath>
-#include <complex>  // before liquid.h, so liquid_float_complex is std::complex<float>
 #include <random>
+
+// clang-format off
+#include <complex>  // before liquid.h, so that liquid_float_complex is std::complex<float>
+#include <liquid/liquid.h>
+// clang-format on
+
+#include "dsp/filter_chain.hpp"
 
 #include "dsp/filter_kernels.hpp"
 #include "dsp/units.hpp"

@@ -2,10 +2,13 @@
 //   build/tests/bench/filter_bench --benchmark_min_time=0.5
 // liquid-dsp's scalar equivalents run alongside for comparison.
 #include <benchmark/benchmark.h>
-#include <liquid/liquid.h>
 
-#include <complex>  // before liquid.h, so liquid_float_complex is std::complex<float>
 #include <random>
+
+// clang-format off
+#include <complex>  // before liquid.h, so that liquid_float_complex is std::complex<float>
+#include <liquid/liquid.h>
+// clang-format on
 
 #include "dsp/filter_chain.hpp"
 #include "dsp/filter_kernels.hpp"
