@@ -11,7 +11,6 @@
 // clang-format on
 
 #include "dsp/filter_chain.hpp"
-
 #include "dsp/filter_kernels.hpp"
 #include "dsp/units.hpp"
 
