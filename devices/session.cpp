@@ -11,6 +11,7 @@
 #include <sstream>
 #include <toml.hpp>
 
+#include "dsp/filter_presets.hpp"
 #include "dsp/units.hpp"
 
 namespace hb {
@@ -275,6 +276,9 @@ void read_source(TableReader& t, SourceSpec& s) {
 }
 
 void read_filter(TableReader& t, FilterSpec& f) {
+    // A preset fills every key first; the keys written beside it override it (dsp/filter_presets.hpp).
+    if (auto it = t.table.as_table().find("preset"); it != t.table.as_table().end() && it->second.is_string())
+        if (const auto p = filter_preset(it->second.as_string().str)) f = *p;
     read_enum(t, "type", f.type);
     read_string(t, "preset", f.preset);
     read_enum(t, "response", f.response);

@@ -6,6 +6,7 @@
 
 #include "dsp/plan.hpp"
 #include "dsp/mixer.hpp"
+#include "dsp/filter_presets.hpp"
 #include "dsp/units.hpp"
 
 namespace hb {
@@ -101,9 +102,13 @@ struct Checker {
 };
 
 void check_filter(Checker& c, const std::string& at, const FilterSpec& f) {
+    if (!f.preset.empty() && !filter_preset(f.preset))
+        c.fail(at + ".preset", "got \"" + f.preset + "\", expected one of " + filter_preset_names());
     if (f.type == FilterType::none) return;
     if (f.type == FilterType::touchstone) {
         if (f.path.empty()) c.fail(at + ".path", "a touchstone filter needs the path of its .s2p file");
+        c.int_range(at + ".sections", f.sections, 1, 8);
+        c.range(at + ".insertion_loss_db", f.insertion_loss_db, 0, 100, "dB");
         return;
     }
     if (f.response == FilterResponse::bandpass) c.positive(at + ".center_hz", f.center_hz, kMaxFrequencyHz, "Hz");
@@ -118,6 +123,13 @@ void check_filter(Checker& c, const std::string& at, const FilterSpec& f) {
         c.range(at + ".ripple_db", f.ripple_db, 0.001, 10, "dB");
     if (f.type == FilterType::chebyshev2 || f.type == FilterType::elliptic || f.type == FilterType::fir)
         c.range(at + ".stop_atten_db", f.stop_atten_db, 3, 200, "dB");
+    if (f.type == FilterType::fir && f.fir_method == FirMethod::parks_mcclellan)
+        c.range(at + ".ripple_db", f.ripple_db, 0.001, 10, "dB");
+    if (f.type == FilterType::elliptic && std::isfinite(f.ripple_db) && std::isfinite(f.stop_atten_db) &&
+        f.stop_atten_db <= f.ripple_db)
+        c.fail(at + ".stop_atten_db", "got " + format_number(f.stop_atten_db) +
+                                          " dB, an elliptic filter needs more stop-band attenuation than ripple (" +
+                                          format_number(f.ripple_db) + " dB)");
     c.range(at + ".transition_hz", f.transition_hz, 0, kMaxFrequencyHz, "Hz");
     c.int_range(at + ".sections", f.sections, 1, 8);
     c.range(at + ".insertion_loss_db", f.insertion_loss_db, 0, 100, "dB");

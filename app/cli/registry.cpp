@@ -9,6 +9,7 @@ void register_all(CLI::App& app, int& rc) {
     register_plan(app, rc);
     register_devices(app, rc);
     register_record(app, rc);
+    register_filter(app, rc);
 }
 
 }  // namespace hb::cli
