@@ -9,7 +9,9 @@
 #include <nlohmann/json.hpp>
 
 #include "cli/commands.hpp"
+#include "devices/filter_setup.hpp"
 #include "devices/session.hpp"
+#include "dsp/bench_model.hpp"
 #include "dsp/errors.hpp"
 #include "dsp/plan.hpp"
 #include "dsp/units.hpp"
@@ -20,7 +22,6 @@ namespace {
 // The default spur table's figures are stated for this RF drive (the SpurTable convention).
 constexpr double kDefaultTableRefDbfs = -10.0;
 // An IQ mixer without gain or phase error rejects the image completely; 300 dB stands for that.
-constexpr double kIdealIrrDb = 300.0;
 
 struct Options {
     std::string session;
@@ -29,17 +30,6 @@ struct Options {
     std::optional<double> level_dbfs;
     std::optional<int> max_order;
 };
-
-// Image rejection of a quadrature mixer with Q/I gain ratio g and phase error θ:
-// IRR = (1 + 2g·cosθ + g²)/(1 − 2g·cosθ + g²) (Razavi, RF Microelectronics, 2nd ed. 2012, image-reject
-// receivers). The mixer module owns the full IQ model; the plan needs only this number.
-double quadrature_irr_db(double gain_error_db, double phase_error_deg) {
-    const double g = amplitude_from_db(gain_error_db);
-    const double c = std::cos(phase_error_deg * kPi / 180.0);
-    const double num = 1 + 2 * g * c + g * g, den = 1 - 2 * g * c + g * g;
-    if (!(den > 0)) return kIdealIrrDb;
-    return std::min(kIdealIrrDb, db_from_power(num / den));
-}
 
 // The limit each kind of line is held to, from [plan.limits], in dBc (NaN: none, the wanted itself).
 double product_limit_dbc(const PlanLimits& l, ProductKind k) {
@@ -134,9 +124,10 @@ void print_text(std::ostream& o, const Setup& s, const PlanReport& r, const Plan
     o << "  RF drive          " << fixed(model.rf_level_dbfs.value_or(model.spurs.ref_level_dbfs), 1)
       << " dBFS at the RF port (wanted, and each interferer for the responses)\n";
     o << "  levels            " << model_note << "\n";
-    if (s.rf_filter.type != FilterType::none)
-        o << "  RF filter         " << to_string(s.rf_filter.type)
-          << " set in the session but not applied by the plan yet: levels assume no preselection (0 dB)\n";
+    if (s.rf_filter.type != FilterType::none && model.rf_attenuation_db)
+        o << "  RF filter         " << to_string(s.rf_filter.type) << ", " << format_frequency(s.rf_filter.center_hz)
+          << " centre, " << format_frequency(s.rf_filter.bandwidth_hz) << " wide: image attenuated "
+          << fixed(model.rf_attenuation_db(2 * p.lo_hz - p.wanted_hz), 1) << " dB\n";
 
     o << "\nProducts of the wanted signal at " << format_frequency(p.wanted_hz) << " (" << r.products.size()
       << " lines; predicted relative to the wanted output)\n";
@@ -442,15 +433,12 @@ void run(const Options& opt) {
                          ", expected an RF drive from -300 to 40 dBFS");
     const FrequencyPlan plan = frequency_plan(s);
 
-    PlanModel model;
-    model.spurs = default_spur_table(plan.max_order, plan.max_order, kDefaultTableRefDbfs);
-    model.rf_level_dbfs = opt.level_dbfs.value_or(kDefaultTableRefDbfs);
-    if (plan.complex_if)
-        model.quadrature_irr_db =
-            quadrature_irr_db(s.mixer.iq_gain_error_db.value_or(0.0), s.mixer.iq_phase_error_deg.value_or(0.0));
-    const std::string model_note =
-        "default spur table (double-balanced switching mixer, square-wave LO; common-practice figures, "
-        "not a model of this session's mixer)";
+    const double level = opt.level_dbfs.value_or(kDefaultTableRefDbfs);
+    std::optional<FilterModel> rf_filter;
+    if (s.rf_filter.type != FilterType::none) rf_filter = rf_filter_model(s);
+    const BenchModel bench = make_bench_model(s, rf_filter ? &*rf_filter : nullptr, level);
+    const PlanModel& model = bench.plan;
+    const std::string& model_note = bench.note;
 
     const PlanReport report = analyze_plan(plan, model);
     if (!opt.csv_dir.empty()) write_csv(opt.csv_dir, report, model, s.plan.limits);
