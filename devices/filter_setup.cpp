@@ -58,4 +58,11 @@ FilterChain make_rf_filter_chain(const Setup& s, const EnvelopeWindow& w) {
     return make_filter_chain({rf_filter_model(s)}, o);
 }
 
+std::function<FilterModel(const FilterSpec&, const std::string&, const std::optional<EnvelopeWindow>&)>
+filter_loader(const Setup& s) {
+    return [s](const FilterSpec& spec, const std::string& key, const std::optional<EnvelopeWindow>& w) {
+        return load_filter_model(s, spec, key, w);
+    };
+}
+
 }  // namespace hb

@@ -2,7 +2,9 @@
 // out the envelope windows the RF filter and the IF filters run on.
 #pragma once
 
+#include <functional>
 #include <optional>
+#include <string>
 #include <vector>
 
 #include "dsp/filter_chain.hpp"
@@ -28,5 +30,10 @@ std::vector<FilterModel> if_filter_models(const Setup& s);
 // The IF chain (IF filters, decimation, gain) on the IF window; the RF filter chain on the RF window.
 FilterChain make_if_chain(const Setup& s, const EnvelopeWindow& w);
 FilterChain make_rf_filter_chain(const Setup& s, const EnvelopeWindow& w);
+
+// The loader the signal chain uses (dsp/signal_chain.hpp): load_filter_model for this Setup, so touchstone
+// filters read their files.
+std::function<FilterModel(const FilterSpec&, const std::string&, const std::optional<EnvelopeWindow>&)>
+filter_loader(const Setup& s);
 
 }  // namespace hb

@@ -5,9 +5,9 @@
 
 namespace hb {
 
-BenchModel make_bench_model(const Setup& s, const FilterModel* rf_filter, double ref_level_dbfs) {
+BenchModel make_bench_model(const Setup& s, const FilterModel* rf_filter, double ref_level_dbfs, double dbm_at_0dbfs) {
     BenchModel b;
-    b.mixer = resolve_mixer(s);
+    b.mixer = std::isnan(dbm_at_0dbfs) ? resolve_mixer(s) : resolve_mixer(s.mixer, lo_frequency_hz(s), dbm_at_0dbfs);
     const int order = s.plan.max_order;
     if (b.mixer.predicts) {
         b.plan.spurs = predict_spur_table(b.mixer, ref_level_dbfs, order, order);

@@ -4,6 +4,7 @@
 // the plan check and the sweep all take their predictions from here, so they cannot disagree.
 #pragma once
 
+#include <limits>
 #include <string>
 
 #include "dsp/filter_model.hpp"
@@ -20,7 +21,9 @@ struct BenchModel {
 
 // rf_filter: the RF filter's model, or nullptr when there is none. ref_level_dbfs: the wanted's drive at the
 // RF port. Levels come from the session's mixer model; a bypass without a preset has no model, so the
-// plan's generic default table is used and the note says so.
-BenchModel make_bench_model(const Setup& s, const FilterModel* rf_filter, double ref_level_dbfs);
+// plan's generic default table is used and the note says so. dbm_at_0dbfs: the RF port calibration (NaN: the
+// first source's level_offset_db from the session).
+BenchModel make_bench_model(const Setup& s, const FilterModel* rf_filter, double ref_level_dbfs,
+                            double dbm_at_0dbfs = std::numeric_limits<double>::quiet_NaN());
 
 }  // namespace hb
