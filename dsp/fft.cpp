@@ -7,15 +7,18 @@
 #include <utility>
 
 namespace hb {
-namespace {
-std::mutex& planner_mutex() {
+std::mutex& fftw_planner_mutex() {
     static std::mutex m;
+    static std::once_flag once;
+    std::call_once(once, [] {
+        fftwf_make_planner_thread_safe();
+        fftw_make_planner_thread_safe();
+    });
     return m;
 }
-}  // namespace
 
 Fft::Fft(std::size_t n, Effort effort, Direction direction) : n_(n) {
-    std::lock_guard lock(planner_mutex());
+    std::lock_guard lock(fftw_planner_mutex());
     in_ = reinterpret_cast<std::complex<float>*>(fftwf_alloc_complex(n));
     out_ = reinterpret_cast<std::complex<float>*>(fftwf_alloc_complex(n));
     if (!in_ || !out_) {
@@ -38,7 +41,7 @@ Fft::Fft(std::size_t n, Effort effort, Direction direction) : n_(n) {
 
 void Fft::release() {
     if (!plan_ && !in_ && !out_) return;
-    std::lock_guard lock(planner_mutex());
+    std::lock_guard lock(fftw_planner_mutex());
     if (plan_) fftwf_destroy_plan(static_cast<fftwf_plan>(plan_));
     fftwf_free(in_);
     fftwf_free(out_);

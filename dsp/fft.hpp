@@ -6,7 +6,15 @@
 #include <complex>
 #include <cstddef>
 
+#include <mutex>
+
 namespace hb {
+
+// The one lock for FFTW's planner, for every plan made anywhere in the process (single and double precision).
+// FFTW's planner is global and not thread-safe: separate locks per module would not protect it. On first use
+// it also turns on FFTW's own planner locking (fftw_make_planner_thread_safe, FFTW 3.3.5+), which covers
+// copies of this library linked into other modules of the same process (the generator device module).
+std::mutex& fftw_planner_mutex();
 
 class Fft {
   public:

@@ -1,5 +1,7 @@
 #include "dsp/lo.hpp"
 
+#include "dsp/fft.hpp"
+
 #include <fftw3.h>
 
 #include <algorithm>
@@ -189,11 +191,6 @@ double integrated_phase_noise_rad(std::span<const PhaseNoisePoint> p, double f1,
 // ---------------------------------------------------------------------------------------------
 
 namespace {
-// FFTW's planner is not thread-safe; this serialises the planning done here.
-std::mutex& fftw_plan_mutex() {
-    static std::mutex m;
-    return m;
-}
 constexpr std::uint64_t kPhaseNoiseSeedTag = 0x70686e; // "phn"
 }  // namespace
 
@@ -210,7 +207,7 @@ struct PhaseNoiseSource::Impl {
     fftwf_plan fwd = nullptr, inv = nullptr;
 
     ~Impl() {
-        std::lock_guard lock(fftw_plan_mutex());
+        std::lock_guard lock(fftw_planner_mutex());
         if (fwd) fftwf_destroy_plan(fwd);
         if (inv) fftwf_destroy_plan(inv);
         if (time) fftwf_free(time);
@@ -261,7 +258,7 @@ PhaseNoiseSource PhaseNoiseSource::make(std::span<const PhaseNoisePoint> profile
     // Zero-phase design on a len-point grid: |H(f)| = sqrt(fs·L(f)) gives S_φ = 2|H|²/fs = 2·L(f) for unit
     // white input. Inverse DFT of the real, even spectrum, centred, Blackman window.
     {
-        std::lock_guard lock(fftw_plan_mutex());
+        std::lock_guard lock(fftw_planner_mutex());
         impl->time = fftwf_alloc_real(n2);
         impl->freq = fftwf_alloc_complex(len + 1);
         impl->fwd = fftwf_plan_dft_r2c_1d(static_cast<int>(n2), impl->time, impl->freq, FFTW_ESTIMATE);
@@ -273,7 +270,7 @@ PhaseNoiseSource PhaseNoiseSource::make(std::span<const PhaseNoisePoint> profile
         std::vector<std::complex<float>> spec(len / 2 + 1);
         fftwf_plan p;
         {
-            std::lock_guard lock(fftw_plan_mutex());
+            std::lock_guard lock(fftw_planner_mutex());
             p = fftwf_plan_dft_c2r_1d(static_cast<int>(len), reinterpret_cast<fftwf_complex*>(spec.data()),
                                       design.data(), FFTW_ESTIMATE);
         }
@@ -283,7 +280,7 @@ PhaseNoiseSource PhaseNoiseSource::make(std::span<const PhaseNoisePoint> profile
         }
         fftwf_execute(p);
         {
-            std::lock_guard lock(fftw_plan_mutex());
+            std::lock_guard lock(fftw_planner_mutex());
             fftwf_destroy_plan(p);
         }
         for (std::size_t n = 0; n < len; ++n) {

@@ -1,5 +1,7 @@
 #include "dsp/synth.hpp"
 
+#include "dsp/fft.hpp"
+
 #include <fftw3.h>
 
 #include <algorithm>
@@ -312,10 +314,6 @@ std::vector<Station> stations_of(const SignalSpec& band, std::size_t signal_inde
 // ---- the synthesiser ----------------------------------------------------------------------------------
 
 namespace {
-std::mutex& fftw_planner_mutex() {  // FFTW's planner is not thread-safe; execution is
-    static std::mutex m;
-    return m;
-}
 constexpr std::size_t kNoiseFft = 2 * kSynthBlock;  // band noise: sine-windowed frames, 50 % overlap
 }  // namespace
 
