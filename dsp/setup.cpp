@@ -7,13 +7,11 @@
 #include "dsp/plan.hpp"
 #include "dsp/mixer.hpp"
 #include "dsp/filter_presets.hpp"
+#include "dsp/names.hpp"
 #include "dsp/units.hpp"
 
 namespace hb {
 namespace {
-
-template <class E, std::size_t N>
-using NameTable = std::array<std::pair<E, std::string_view>, N>;
 
 constexpr NameTable<SourceKind, 3> kSourceKinds{{
     {SourceKind::recording, "recording"}, {SourceKind::device, "device"}, {SourceKind::generator, "generator"}}};
@@ -45,61 +43,6 @@ constexpr NameTable<Averaging, 4> kAveraging{{{Averaging::rms, "rms"},
                                               {Averaging::min_hold, "min-hold"}}};
 constexpr NameTable<LevelUnit, 2> kUnits{{{LevelUnit::dbfs, "dBFS"}, {LevelUnit::dbm, "dBm"}}};
 constexpr NameTable<Injection, 2> kInjections{{{Injection::low, "low"}, {Injection::high, "high"}}};
-
-template <class E, std::size_t N>
-std::string_view name_of(const NameTable<E, N>& table, E value) {
-    for (const auto& [v, n] : table)
-        if (v == value) return n;
-    return "?";
-}
-
-template <class E, std::size_t N>
-bool value_of(const NameTable<E, N>& table, std::string_view text, E& out) {
-    for (const auto& [v, n] : table)
-        if (n == text) {
-            out = v;
-            return true;
-        }
-    return false;
-}
-
-template <class E, std::size_t N>
-std::string join_names(const NameTable<E, N>& table) {
-    std::string s;
-    for (const auto& [v, n] : table) {
-        if (!s.empty()) s += '|';
-        s += n;
-    }
-    return s;
-}
-
-// Collects problems with their key paths; every check reads as one line below.
-struct Checker {
-    std::vector<SetupProblem> problems;
-
-    void fail(std::string key, std::string message) { problems.push_back({std::move(key), std::move(message)}); }
-
-    // A finite number in [lo, hi].
-    void range(const std::string& key, double v, double lo, double hi, std::string_view unit) {
-        if (!std::isfinite(v) || v < lo || v > hi)
-            fail(key, "got " + format_number(v) + ", expected a finite number from " + format_number(lo) + " to " +
-                          format_number(hi) + (unit.empty() ? "" : " " + std::string(unit)));
-    }
-    void positive(const std::string& key, double v, double hi, std::string_view unit) {
-        if (!std::isfinite(v) || v <= 0 || v > hi)
-            fail(key, "got " + format_number(v) + ", expected a finite number above 0 and at most " +
-                          format_number(hi) + " " + std::string(unit));
-    }
-    void int_range(const std::string& key, long long v, long long lo, long long hi) {
-        if (v < lo || v > hi)
-            fail(key, "got " + std::to_string(v) + ", expected an integer from " + std::to_string(lo) + " to " +
-                          std::to_string(hi));
-    }
-    void opt_range(const std::string& key, const std::optional<double>& v, double lo, double hi,
-                   std::string_view unit) {
-        if (v) range(key, *v, lo, hi, unit);
-    }
-};
 
 void check_filter(Checker& c, const std::string& at, const FilterSpec& f) {
     if (!f.preset.empty() && !filter_preset(f.preset))

@@ -1,6 +1,7 @@
 #include "dsp/synth.hpp"
 
 #include "dsp/fft.hpp"
+#include "dsp/names.hpp"
 
 #include <fftw3.h>
 
@@ -22,9 +23,6 @@ namespace fm = fastmath;
 
 // ---- names --------------------------------------------------------------------------------------------
 
-template <class E, std::size_t N>
-using NameTable = std::array<std::pair<E, std::string_view>, N>;
-
 constexpr NameTable<SignalType, 6> kSignalTypes{{{SignalType::cw, "cw"},
                                                  {SignalType::two_tone, "two-tone"},
                                                  {SignalType::am, "am"},
@@ -33,45 +31,6 @@ constexpr NameTable<SignalType, 6> kSignalTypes{{{SignalType::cw, "cw"},
                                                  {SignalType::noise, "noise"}}};
 constexpr NameTable<ModSource, 2> kModSources{{{ModSource::tone, "tone"}, {ModSource::noise, "noise"}}};
 constexpr NameTable<ModKind, 2> kModKinds{{{ModKind::am, "am"}, {ModKind::fm, "fm"}}};
-
-template <class E, std::size_t N>
-std::string_view name_of(const NameTable<E, N>& table, E value) {
-    for (const auto& [v, n] : table)
-        if (v == value) return n;
-    return "?";
-}
-template <class E, std::size_t N>
-bool value_of(const NameTable<E, N>& table, std::string_view text, E& out) {
-    for (const auto& [v, n] : table)
-        if (n == text) {
-            out = v;
-            return true;
-        }
-    return false;
-}
-template <class E, std::size_t N>
-std::string join_names(const NameTable<E, N>& table) {
-    std::string s;
-    for (const auto& [v, n] : table) s += (s.empty() ? "" : "|") + std::string(n);
-    return s;
-}
-
-// ---- validation ---------------------------------------------------------------------------------------
-
-struct Checker {
-    std::vector<SetupProblem> problems;
-    void fail(std::string key, std::string message) { problems.push_back({std::move(key), std::move(message)}); }
-    void range(const std::string& key, double v, double lo, double hi, std::string_view unit) {
-        if (!std::isfinite(v) || v < lo || v > hi)
-            fail(key, "got " + format_number(v) + ", expected a finite number from " + format_number(lo) + " to " +
-                          format_number(hi) + (unit.empty() ? "" : " " + std::string(unit)));
-    }
-    void positive(const std::string& key, double v, double hi, std::string_view unit) {
-        if (!std::isfinite(v) || v <= 0 || v > hi)
-            fail(key, "got " + format_number(v) + ", expected a finite number above 0 and at most " +
-                          format_number(hi) + " " + std::string(unit));
-    }
-};
 
 constexpr double kMinLevelDbm = -250.0, kMaxLevelDbm = 100.0;
 constexpr int kMaxStations = 100000;
