@@ -118,6 +118,13 @@ std::string mixer_preset_names() {
     return s;
 }
 
+MixerModel output_model(const MixerSpec& spec) {
+    const MixerPreset* pre = spec.preset.empty() ? nullptr : find_mixer_preset(spec.preset);
+    if (spec.model == MixerModel::ideal || spec.model == MixerModel::bypass)
+        return pre ? pre->values.model : MixerModel::ideal;
+    return spec.model;
+}
+
 MixerParams resolve_mixer(const MixerSpec& spec, double lo_hz, double cal) {
     MixerParams p;
     const MixerPreset* pre = nullptr;

@@ -98,6 +98,9 @@ struct MixerParams {
 // Noise: noise_dbfs_per_hz when set, else the noise figure: (F − 1)·kT0 referred to the input (so an input
 // that already holds kT0 of noise leaves at F·kT0), kT0 = −173.975 dBm/Hz at 290 K.
 MixerParams resolve_mixer(const MixerSpec& spec, double lo_hz, double dbm_at_0dbfs = 0.0);
+// The model whose output the IF carries (MixerParams::predict_model) without resolving anything else: the
+// preset's model when model is ideal (or bypass) and a preset is named. Unknown presets count as no preset.
+MixerModel output_model(const MixerSpec& spec);
 // Same, with the LO from the plan and the calibration of the first source.
 MixerParams resolve_mixer(const Setup& setup);
 

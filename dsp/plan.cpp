@@ -1,5 +1,7 @@
 #include "dsp/plan.hpp"
 
+#include "dsp/mixer.hpp"
+
 #include <algorithm>
 #include <cmath>
 #include <cstdlib>
@@ -134,7 +136,7 @@ FrequencyPlan frequency_plan(const Setup& s) {
     p.if_band = {ps.if_hz, ps.if_bandwidth_hz};
     p.injection = ps.injection;
     p.fixed_lo = s.mixer.lo.frequency_hz.has_value();
-    p.complex_if = s.mixer.model == MixerModel::quadrature;
+    p.complex_if = output_model(s.mixer) == MixerModel::quadrature;
     p.wanted_n = p.fixed_lo ? wanted_conversion(p.lo_hz, p.wanted_hz, p.if_band) : -1;
     p.rf_low_hz = ps.rf_low_hz;
     p.rf_high_hz = ps.rf_high_hz;

@@ -327,6 +327,15 @@ TEST(PlanCheck, GoodPlanResolves) {
     EXPECT_FALSE(p.complex_if);
 }
 
+TEST(PlanCheck, ImageRejectPresetGivesAComplexIf) {
+    // The preset names an IQ (quadrature) mixer; with the default model "ideal" the preset's model applies.
+    hb::Setup s = base_setup();
+    s.mixer.preset = "image-reject";
+    EXPECT_TRUE(frequency_plan(s).complex_if);
+    s.mixer.model = MixerModel::bipolar;  // an explicit model overrides the preset's
+    EXPECT_FALSE(frequency_plan(s).complex_if);
+}
+
 TEST(PlanCheck, LowSideLoBelowZeroForAChannel) {
     hb::Setup s = base_setup();
     s.plan.injection = Injection::low;
