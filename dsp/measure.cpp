@@ -309,7 +309,7 @@ struct CheckContext {
     WindowResponse r;
     BinStatistics st;
     std::vector<double> profile;
-    double usable_half_hz = 0.0;
+    double usable_low_hz = 0.0, usable_high_hz = 0.0;  // absolute
 };
 
 Observation observe(const CheckContext& c, const ExpectedLine& line) {
@@ -322,16 +322,15 @@ Observation observe(const CheckContext& c, const ExpectedLine& line) {
         return o;
     }
     const double lobe_hz = c.r.mainlobe_halfwidth_bins * s.bin_hz();
-    const double edge = c.usable_half_hz - lobe_hz;
-    if (std::abs(line.freq_hz - s.center_hz) > edge) {
-        res.note = "outside the analysed span " + format_frequency(s.center_hz - edge, 6) + " to " +
-                   format_frequency(s.center_hz + edge, 6);
+    const double lo_edge = c.usable_low_hz + lobe_hz, hi_edge = c.usable_high_hz - lobe_hz;
+    if (!(line.freq_hz >= lo_edge && line.freq_hz <= hi_edge)) {
+        res.note = "outside the analysed span " + format_frequency(lo_edge, 6) + " to " + format_frequency(hi_edge, 6);
         return o;
     }
     const double half = std::max(s.bin_hz(), c.opt.search_rbw * s.rbw_hz + std::abs(line.m) * c.opt.lo_uncertainty_hz +
                                                  std::abs(line.n) * c.opt.rf_uncertainty_hz);
-    res.search_low_hz = std::max(line.freq_hz - half, s.center_hz - edge);
-    res.search_high_hz = std::min(line.freq_hz + half, s.center_hz + edge);
+    res.search_low_hz = std::max(line.freq_hz - half, lo_edge);
+    res.search_high_hz = std::min(line.freq_hz + half, hi_edge);
     std::tie(o.klo, o.khi) = bin_range(s, res.search_low_hz, res.search_high_hz);
     const double mu = profile_at(c.profile, s, line.freq_hz);
     res.floor_dbfs_per_hz = db_from_power(mu / s.rbw_hz);
@@ -398,12 +397,16 @@ PlanCheck check_plan(const Spectrum& s, std::span<const ExpectedLine> lines, con
                    make_window_response(s.spec.window, s.spec.kaiser_beta, n),
                    st,
                    noise_floor_profile(s, st),
-                   0.5 * s.sample_rate_hz * opt.usable_fraction};
+                   std::max(s.center_hz - 0.5 * s.sample_rate_hz * opt.usable_fraction, opt.usable_low_hz),
+                   std::min(s.center_hz + 0.5 * s.sample_rate_hz * opt.usable_fraction, opt.usable_high_hz)};
+    if (!(c.usable_high_hz > c.usable_low_hz))
+        throw InputError("plan check: the usable band " + format_frequency(opt.usable_low_hz) + " to " +
+                         format_frequency(opt.usable_high_hz) + " does not overlap the spectrum's span");
     PlanCheck out;
     out.rbw_hz = s.rbw_hz;
     out.unit = s.spec.unit;
     out.calibration_db = s.spec.calibration_db;
-    out.floor = noise_floor(s, st, s.center_hz - c.usable_half_hz, s.center_hz + c.usable_half_hz);
+    out.floor = noise_floor(s, st, c.usable_low_hz, c.usable_high_hz);
 
     std::vector<Observation> obs;
     obs.reserve(lines.size());
@@ -478,7 +481,7 @@ PlanCheck check_plan(const Spectrum& s, std::span<const ExpectedLine> lines, con
 
     // Unexplained peaks: local maxima well above the local floor, outside every search window and main lobe,
     // and not leakage of anything stronger.
-    const auto [ulo, uhi] = bin_range(s, s.center_hz - c.usable_half_hz, s.center_hz + c.usable_half_hz);
+    const auto [ulo, uhi] = bin_range(s, c.usable_low_hz, c.usable_high_hz);
     const double span_bins = static_cast<double>(std::max<long long>(1, uhi - ulo + 1));
     const double factor =
         std::max(c.st.quantile(std::pow(1.0 - opt.false_alarm, 1.0 / span_bins)), power_from_db(opt.unexplained_db));

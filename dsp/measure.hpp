@@ -113,6 +113,10 @@ struct PlanCheckOptions {
     // Centred fraction of the span treated as usable (anti-alias roll-off at the edges): lines outside are
     // not observable.
     double usable_fraction = 1.0;
+    // Absolute band, intersected with the above, outside which nothing is judged (e.g. where an emulated IF is
+    // exact: above 0 Hz for a real IF).
+    double usable_low_hz = -std::numeric_limits<double>::infinity();
+    double usable_high_hz = std::numeric_limits<double>::infinity();
 };
 
 struct LineResult {

@@ -4,27 +4,36 @@
 #include <cmath>
 
 #include "dsp/errors.hpp"
+#include "dsp/filter_fir.hpp"
+#include "dsp/filter_kernels.hpp"
 #include "dsp/units.hpp"
 #include "dsp/vector_math.hpp"
 
 namespace hb {
 namespace {
 
-constexpr std::size_t kChunk = 2048;  // samples per re-seed of the NCO lanes; L1-sized scratch
-constexpr std::size_t kLanes = 32;    // time lanes: two independent phasor chains of 16 floats (AVX-512)
+constexpr std::size_t kChunk = 2048;                 // samples per re-seed of the NCO lanes; L1-sized scratch
+constexpr std::size_t kLanes = 32;                   // time lanes: two independent phasor chains of 16 floats (AVX-512)
 constexpr std::uint64_t kNoiseSeedTag = 0x6e6f6973;  // "nois"
 constexpr std::uint64_t kPhaseSeedTag = 0x6c6f706e;  // "lopn"
+// Output filters (see the header). Transition widths are fractions of the input rate; every stop-band is 100 dB.
+//   interpolation ×2:  pass ±0.45, stop beyond ±0.55 (its images)
+//   window (at 2×):    −6 dB at the window edges ±0.5, transition 0.1: exact within ±0.45 of the rate
+//   positive (at 1×):  −6 dB at 0 Hz (and at the wrap point), transition 0.04: exact from 0.02 of the rate up
+constexpr double kEdgeTransition = 0.1;
+constexpr double kZeroTransition = 0.04;
+constexpr double kFilterAttenDb = 100.0;
 
 struct Line {
     ZoneEnvelope env = ZoneEnvelope::constant;
     bool conj = false;
-    int pn = 0;                       // LO phase-noise multiplier
-    double freq_hz = 0.0;             // absolute output frequency
+    int pn = 0;            // LO phase-noise multiplier
+    double freq_hz = 0.0;  // absolute output frequency
     std::complex<double> coeff;
-    double delta = 0.0;               // cycles per sample
-    double phase = 0.0;               // cycles, [0, 1), at the start of the next chunk
+    double delta = 0.0;                                 // cycles per sample
+    double phase = 0.0;                                 // cycles, [0, 1), at the start of the next chunk
     double lane_re[kLanes] = {}, lane_im[kLanes] = {};  // e^{j2πΔ·lane}: seeds are independent multiplies
-    float step_re = 1.0f, step_im = 0.0f;  // e^{j2πΔ·kLanes}
+    float step_re = 1.0f, step_im = 0.0f;               // e^{j2πΔ·kLanes}
     bool straddles = false;
 };
 
@@ -109,8 +118,21 @@ struct MixerEmulator::Impl {
     double out_center = 0.0;
     double fs = 0.0;
     std::uint64_t seed = 1;
+    // Synthesis runs at os·fs: 2 when some kept term's band reaches beyond the window (its content there must be
+    // filtered away, not wrapped round), else 1.
+    int os = 1;
     std::vector<Line> lines;  // sorted by |pn|, then pn
     std::vector<ZoneTerm> terms;
+    FirKernel interp_even, interp_odd;  // os = 2: the two phases of the ×2 interpolator
+    FirKernel window_fir;               // os = 2: keeps the window, decimates by 2
+    int window_phase = 0;
+    bool analytic = false;  // a real IF window that holds 0 Hz: keep the positive frequencies
+    FirKernel positive;
+    int positive_phase = 0;
+    double delay = 0.0;                    // output samples the filters delay the terms by
+    std::complex<double> dc{0.0, 0.0};     // DC at 0 Hz: added after the filters, as a tone at −centre
+    double dc_step = 0.0, dc_phase = 0.0;  // cycles per output sample, and the phase (cycles) of the next sample
+    double exact_low = 0.0, exact_high = 0.0;
     float c3 = 0.0f;  // E1 = x·(1 + c3·|x|²), c3 = 3·a3/4
     bool need_e0 = false, need_e1 = false, e1_cubic = false, need_e2 = false, need_e3 = false;
     bool pn_on = false;
@@ -118,10 +140,15 @@ struct MixerEmulator::Impl {
     GaussRng rng;
     float noise_sigma = 0.0f;  // per component
 
-    // Scratch, kChunk each (structure of arrays).
+    // Scratch (structure of arrays): os·kChunk at the synthesis rate, kChunk for the noise.
+    const float* e1re = nullptr;  // this chunk's E1: the input itself, or e1r/e1i with the cubic term
+    const float* e1im = nullptr;
     std::vector<float> xr, xi, e0, e1r, e1i, e2r, e2i, e3r, e3i, ar, ai, tr, ti, phi, br, bi, cr, ci, nr, ni;
+    std::vector<cf32> up, even, odd, acc;
 
     void run_chunk(const std::complex<float>* in, std::complex<float>* out, std::size_t cnt);
+    // Accumulates every line into (ar, ai) over n samples (m of them real), phase noise applied per group.
+    void accumulate(std::size_t m, std::size_t n);
 };
 
 MixerEmulator::MixerEmulator() = default;
@@ -159,12 +186,21 @@ MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfi
     const double kappa[4] = {c.a2 / 2.0, 0.5, c.a2 / 4.0, c.a3 / 8.0};  // U_q = kappa_q · E_q
     const ZoneEnvelope zone[4] = {ZoneEnvelope::zone0, ZoneEnvelope::zone1, ZoneEnvelope::zone2, ZoneEnvelope::zone3};
 
+    // Which terms are kept. A term of envelope order p at d = f − centre spans d ± h, h = p·B/2 with B the occupied
+    // RF width (the whole window when unknown). At the doubled rate its content is exact where |d ± h| < 1.5·fs
+    // (beyond, it would alias back into the window), so a term is kept when its band reaches the window and does
+    // not reach that far. An x³ envelope wider than the doubled rate (3·B > 2·fs) aliases in itself: those terms
+    // are kept by their centre.
+    const double occupied = cfg.rf_occupied_hz > 0 ? std::min(cfg.rf_occupied_hz, fs) : fs;
     auto add = [&](ZoneEnvelope env, bool conj, double f, std::complex<double> coeff, int pn) {
         if (std::abs(coeff) == 0.0) return;
         if (env == ZoneEnvelope::zone0 || env == ZoneEnvelope::constant) conj = false;  // real envelopes
         const double d = f - wc;
-        const double h = envelope_order(env, cubic) * cfg.rf_occupied_hz / 2.0;
-        const bool keep = h > 0 ? std::abs(d) - h < half : (d >= -half && d < half);
+        const int order = envelope_order(env, cubic);
+        const double h = order * occupied / 2.0;
+        const bool centre_in = d >= -half && d < half;
+        const bool aliased = 2.0 * h > 2.0 * fs;
+        const bool keep = aliased ? centre_in : (std::abs(d) - h < half && std::abs(d) + h < 3.0 * half);
         if (!keep) return;
         for (Line& l : s.lines)
             if (l.env == env && l.conj == conj && l.pn == pn && l.freq_hz == f) {
@@ -177,22 +213,22 @@ MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfi
         l.pn = pn;
         l.freq_hz = f;
         l.coeff = coeff;
-        l.delta = d / fs;
-        l.straddles = h > 0 && std::abs(d) + h > half;
+        l.delta = d;  // Hz for now; cycles per sample once the synthesis rate is known
+        l.straddles = std::abs(d) + h > half * (1.0 + 1e-12);
         s.lines.push_back(l);
     };
 
+    // Real models: both members of every conjugate pair, since a term whose band straddles 0 Hz has content on both
+    // sides (the image of an LO inside the RF window lands across 0 Hz from the wanted); the positive-frequency
+    // filter keeps the analytic half where the window holds 0 Hz. Quadrature: the complex IF μ·v + ν·v*.
     const int k = c.harmonics;
-    const double tiny = 1e-9 * std::max({std::abs(fc), std::abs(flo), 1.0});
     for (int q = -kMixerMaxRfOrder; q <= kMixerMaxRfOrder; ++q) {
         const int aq = q < 0 ? -q : q;
         for (int m = -k; m <= k; ++m) {
             const std::complex<double> z = c.lo_at(m) * kappa[aq];
             const double f = q * fc + m * flo;
             if (!c.complex_if) {
-                // One of each conjugate pair: the one at a positive frequency (the analytic representation).
-                const bool rep = f > tiny || (std::abs(f) <= tiny && (q > 0 || (q == 0 && m >= 0)));
-                if (rep) add(zone[aq], q < 0, f, z, m);
+                add(zone[aq], q < 0, f, z, m);
             } else {
                 add(zone[aq], q < 0, f, c.mu * z, m);
                 add(zone[aq], !(q < 0), -f, c.nu * std::conj(z), -m);  // ν·z*: conjugate envelope, mirrored
@@ -201,11 +237,56 @@ MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfi
     }
     for (int m = c.complex_if ? -k : 1; m <= k; ++m)
         if (m != 0) add(ZoneEnvelope::constant, false, m * flo, c.leak_at(m), m);
-    add(ZoneEnvelope::constant, false, 0.0, c.dc, 0);
-
-    // Drop lines whose merged coefficient cancelled; finish the NCO steps; order by phase-noise multiplier.
     std::erase_if(s.lines, [](const Line& l) { return std::abs(l.coeff) == 0.0; });
+
+    s.os = std::any_of(s.lines.begin(), s.lines.end(), [](const Line& l) { return l.straddles; }) ? 2 : 1;
+    const double rate = s.os * fs;
+    s.exact_low = wc - half;
+    s.exact_high = wc + half;
+    if (s.os == 2) {
+        // ×2 interpolator (real taps, split into its two phases) and the window filter (−6 dB on the window edges).
+        const FirLowpass ip = design_fir_lowpass(FirDesignMethod::kaiser, 0.225, 0.275, kFilterAttenDb, 0.1,
+                                                 "mixer emulator: interpolator");
+        std::vector<std::complex<double>> he, ho;
+        for (std::size_t i = 0; i < ip.taps.size(); ++i) (i % 2 == 0 ? he : ho).push_back(2.0 * ip.taps[i]);
+        s.interp_even.init(he, kChunk);
+        s.interp_odd.init(ho.empty() ? std::vector<std::complex<double>>{0.0} : ho, kChunk);
+        const double t = kEdgeTransition / 4.0;  // at the doubled rate
+        const FirLowpass wf = design_fir_lowpass(FirDesignMethod::kaiser, 0.25 - t, 0.25 + t, kFilterAttenDb, 0.1,
+                                                 "mixer emulator: window filter");
+        std::vector<std::complex<double>> hw(wf.taps.begin(), wf.taps.end());
+        s.window_fir.init(hw, 2 * kChunk);
+        // Delay in output samples: the interpolator's (L−1)/2 at 2× (its even phase leads by one input sample
+        // per two taps) plus the window filter's.
+        s.delay = (static_cast<double>(ip.taps.size() - 1) / 2.0 + static_cast<double>(wf.taps.size() - 1) / 2.0) / 2.0;
+        s.exact_low = wc - half * (1.0 - kEdgeTransition);
+        s.exact_high = wc + half * (1.0 - kEdgeTransition);
+    }
+    const double neg_width = half - wc, pos_width = half + wc;  // the window's parts below and above 0 Hz
+    s.analytic = !c.complex_if && neg_width > kZeroTransition * fs && pos_width > kZeroTransition * fs;
+    if (s.analytic) {
+        // Low-pass prototype with its −6 dB edges on 0 Hz and on the window's wrap point, moved to the middle of the
+        // positive part.
+        const double cut = pos_width / (2.0 * fs), dt = kZeroTransition / 2.0;
+        const FirLowpass lp = design_fir_lowpass(FirDesignMethod::kaiser, cut - dt, cut + dt, kFilterAttenDb, 0.1,
+                                                 "mixer emulator: positive-frequency filter");
+        const double shift = (half - wc) / 2.0 / fs;  // cycles per sample: the middle of the positive part
+        std::vector<std::complex<double>> h(lp.taps.size());
+        const double mid = static_cast<double>(lp.taps.size() - 1) / 2.0;
+        for (std::size_t i = 0; i < h.size(); ++i)
+            h[i] = lp.taps[i] * std::polar(1.0, kTwoPi * shift * (static_cast<double>(i) - mid));
+        s.positive.init(h, kChunk);
+        s.delay += mid;
+        s.exact_low = std::max(s.exact_low, dt * fs);
+        s.exact_high = std::min(s.exact_high, wc + half - dt * fs);
+    }
+    // DC bypasses the filters (it sits on the positive filter's edge): a tone at −centre, delayed to match.
+    s.dc = c.dc;
+    s.dc_step = -wc / fs;
+
+    // NCO steps at the synthesis rate; order by phase-noise multiplier.
     for (Line& l : s.lines) {
+        l.delta /= rate;
         for (std::size_t lane = 0; lane < kLanes; ++lane) {
             const double a = kTwoPi * std::fmod(l.delta * static_cast<double>(lane), 1.0);
             l.lane_re[lane] = std::cos(a);
@@ -229,27 +310,61 @@ MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfi
     s.need_e0 |= s.e1_cubic;
     s.c3 = static_cast<float>(3.0 * c.a3 / 4.0);
 
-    s.pn = PhaseNoiseSource::make(params.phase_noise, fs, derive_seed(cfg.seed, kPhaseSeedTag));
+    s.pn = PhaseNoiseSource::make(params.phase_noise, rate, derive_seed(cfg.seed, kPhaseSeedTag));
     s.pn_on = s.pn.enabled();
     if (std::isfinite(c.noise_out_dbfs_per_hz))
         s.noise_sigma = static_cast<float>(std::sqrt(power_from_db(c.noise_out_dbfs_per_hz) * fs / 2.0));
 
+    const std::size_t big = static_cast<std::size_t>(s.os) * kChunk;
     for (auto* v : {&s.xr, &s.xi, &s.e0, &s.e1r, &s.e1i, &s.e2r, &s.e2i, &s.e3r, &s.e3i, &s.ar, &s.ai, &s.tr, &s.ti,
-                    &s.phi, &s.br, &s.bi, &s.cr, &s.ci, &s.nr, &s.ni})
-        v->assign(kChunk, 0.0f);
+                    &s.phi, &s.br, &s.bi, &s.cr, &s.ci})
+        v->assign(big, 0.0f);
+    s.nr.assign(kChunk, 0.0f);
+    s.ni.assign(kChunk, 0.0f);
+    s.acc.assign(big, cf32{});
+    if (s.os == 2) {
+        s.up.assign(big, cf32{});
+        s.even.assign(kChunk, cf32{});
+        s.odd.assign(kChunk, cf32{});
+    }
     em.reset();
     return em;
 }
 
 void MixerEmulator::reset() {
     if (!impl_ || impl_->bypass) return;
-    for (Line& l : impl_->lines) l.phase = 0.0;
-    impl_->pn.reset();
-    impl_->rng = GaussRng::make(derive_seed(impl_->seed, kNoiseSeedTag));
+    Impl& s = *impl_;
+    for (Line& l : s.lines) l.phase = 0.0;
+    for (FirKernel* f : {&s.interp_even, &s.interp_odd, &s.window_fir, &s.positive}) f->reset();
+    s.window_phase = s.positive_phase = 0;
+    // The terms leave the filters `delay` samples late: DC starts as if it had been delayed the same.
+    s.dc_phase = -s.dc_step * s.delay;
+    s.dc_phase -= std::floor(s.dc_phase);
+    s.pn.reset();
+    s.rng = GaussRng::make(derive_seed(s.seed, kNoiseSeedTag));
 }
 
-double MixerEmulator::output_center_hz() const { return impl_ ? impl_->out_center : 0.0; }
-bool MixerEmulator::bypass() const { return impl_ && impl_->bypass; }
+double MixerEmulator::output_center_hz() const {
+    return impl_ ? impl_->out_center : 0.0;
+}
+bool MixerEmulator::bypass() const {
+    return impl_ && impl_->bypass;
+}
+bool MixerEmulator::analytic_filter() const {
+    return impl_ && impl_->analytic;
+}
+int MixerEmulator::oversampling() const {
+    return impl_ ? impl_->os : 1;
+}
+double MixerEmulator::delay_samples() const {
+    return impl_ ? impl_->delay : 0.0;
+}
+double MixerEmulator::exact_low_hz() const {
+    return impl_ ? impl_->exact_low : 0.0;
+}
+double MixerEmulator::exact_high_hz() const {
+    return impl_ ? impl_->exact_high : 0.0;
+}
 std::span<const ZoneTerm> MixerEmulator::terms() const {
     return impl_ ? std::span<const ZoneTerm>(impl_->terms) : std::span<const ZoneTerm>();
 }
@@ -270,23 +385,36 @@ void MixerEmulator::process(std::span<const std::complex<float>> in, std::span<s
 }
 
 void MixerEmulator::Impl::run_chunk(const std::complex<float>* in, std::complex<float>* out, std::size_t cnt) {
-    const std::size_t n = (cnt + kLanes - 1) / kLanes * kLanes;  // kernels run on whole lane groups
+    const std::size_t m = static_cast<std::size_t>(os) * cnt;  // samples at the synthesis rate
+    const std::size_t n = (m + kLanes - 1) / kLanes * kLanes;  // kernels run on whole lane groups
     float* __restrict pxr = xr.data();
     float* __restrict pxi = xi.data();
-    for (std::size_t i = 0; i < cnt; ++i) {
-        pxr[i] = in[i].real();
-        pxi[i] = in[i].imag();
+    if (os == 2) {
+        int ph = 0;
+        interp_even.process(in, cnt, even.data(), 1, ph);
+        interp_odd.process(in, cnt, odd.data(), 1, ph);
+        for (std::size_t i = 0; i < cnt; ++i) {
+            pxr[2 * i] = even[i].real();
+            pxi[2 * i] = even[i].imag();
+            pxr[2 * i + 1] = odd[i].real();
+            pxi[2 * i + 1] = odd[i].imag();
+        }
+    } else {
+        for (std::size_t i = 0; i < cnt; ++i) {
+            pxr[i] = in[i].real();
+            pxi[i] = in[i].imag();
+        }
     }
-    std::fill(pxr + cnt, pxr + n, 0.0f);
-    std::fill(pxi + cnt, pxi + n, 0.0f);
+    std::fill(pxr + m, pxr + n, 0.0f);
+    std::fill(pxi + m, pxi + n, 0.0f);
 
     // RF zone envelopes (constants are in the line coefficients): E0 = |x|², E1 = x·(1 + c3|x|²), E2 = x², E3 = x³.
     if (need_e0) {
         float* __restrict o = e0.data();
         for (std::size_t i = 0; i < n; ++i) o[i] = pxr[i] * pxr[i] + pxi[i] * pxi[i];
     }
-    const float* e1re = pxr;
-    const float* e1im = pxi;
+    e1re = pxr;
+    e1im = pxi;
     if (e1_cubic) {
         float* __restrict o_r = e1r.data();
         float* __restrict o_i = e1i.data();
@@ -318,29 +446,61 @@ void MixerEmulator::Impl::run_chunk(const std::complex<float>* in, std::complex<
         }
     }
 
-    std::fill(ar.begin(), ar.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
-    std::fill(ai.begin(), ai.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
-
-    // Phase noise: base phasor e^{jφ}; the running power e^{j|k|φ} grows with the groups' |k|.
-    int cur_k = 0;
     if (pn_on) {
-        pn.generate(phi.data(), cnt);
-        std::fill(phi.begin() + static_cast<std::ptrdiff_t>(cnt), phi.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
+        pn.generate(phi.data(), m);
+        std::fill(phi.begin() + static_cast<std::ptrdiff_t>(m), phi.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
         const float* __restrict ph = phi.data();
         float* __restrict pbr = br.data();
         float* __restrict pbi = bi.data();
         for (std::size_t i = 0; i < n; ++i) vmath::sincos_turns(ph[i] * 0.159154943091895336f, pbi[i], pbr[i]);
+    }
+    accumulate(m, n);
+
+    if (os == 2) {
+        for (std::size_t t = 0; t < m; ++t) acc[t] = {ar[t], ai[t]};
+        window_fir.process(acc.data(), m, out, 2, window_phase);
+    } else {
+        for (std::size_t t = 0; t < cnt; ++t) out[t] = {ar[t], ai[t]};
+    }
+    if (analytic) positive.process(out, cnt, out, 1, positive_phase);
+    if (dc != std::complex<double>{}) {
+        // A tone at −centre from a double-precision phase, re-seeded per chunk.
+        std::complex<double> rot = dc * std::polar(1.0, kTwoPi * dc_phase);
+        const std::complex<double> step = std::polar(1.0, kTwoPi * dc_step);
+        for (std::size_t t = 0; t < cnt; ++t) {
+            out[t] += cf32(static_cast<float>(rot.real()), static_cast<float>(rot.imag()));
+            rot *= step;
+        }
+        dc_phase += dc_step * static_cast<double>(cnt);
+        dc_phase -= std::floor(dc_phase);
+    }
+    if (noise_sigma > 0.0f) {
+        rng.fill_pairs(nr.data(), ni.data(), cnt);
+        for (std::size_t t = 0; t < cnt; ++t) out[t] += cf32(noise_sigma * nr[t], noise_sigma * ni[t]);
+    }
+}
+
+void MixerEmulator::Impl::accumulate(std::size_t cnt, std::size_t n) {
+    const std::size_t begin = 0, end_all = lines.size();
+    float* dst0_r = ar.data();
+    float* dst0_i = ai.data();
+    std::fill(dst0_r, dst0_r + n, 0.0f);
+    std::fill(dst0_i, dst0_i + n, 0.0f);
+
+    // Phase noise: base phasor e^{jφ}; the running power e^{j|k|φ} grows with the groups' |k|.
+    int cur_k = 0;
+    if (pn_on) {
         std::fill(cr.begin(), cr.begin() + static_cast<std::ptrdiff_t>(n), 1.0f);
         std::fill(ci.begin(), ci.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
     }
 
     alignas(64) float seed_re[kLanes], seed_im[kLanes];
-    std::size_t i = 0;
-    while (i < lines.size()) {
+    std::size_t i = begin;
+    while (i < end_all) {
         const int pnk = lines[i].pn;
         const bool rotate = pn_on && pnk != 0;
-        float* dst_r = rotate ? tr.data() : ar.data();
-        float* dst_i = rotate ? ti.data() : ai.data();
+        float* dst_r = rotate ? tr.data() : dst0_r;
+        float* dst_i = rotate ? ti.data() : dst0_i;
         if (rotate) {
             std::fill(tr.begin(), tr.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
             std::fill(ti.begin(), ti.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
@@ -348,9 +508,9 @@ void MixerEmulator::Impl::run_chunk(const std::complex<float>* in, std::complex<
         // Lines are sorted by |pn|: the pn = 0 group comes first; without phase noise everything is one group.
         std::size_t end = i;
         if (!pn_on)
-            end = lines.size();
+            end = end_all;
         else
-            while (end < lines.size() && lines[end].pn == pnk) ++end;
+            while (end < end_all && lines[end].pn == pnk) ++end;
         for (std::size_t j = i; j < end; ++j) {
             Line& l = lines[j];
             // Lane seeds coeff·e^{j2π(phase + Δ·lane)} in double (multiplied out by hand: std::complex
@@ -400,21 +560,12 @@ void MixerEmulator::Impl::run_chunk(const std::complex<float>* in, std::complex<
             const float sgn = pnk < 0 ? -1.0f : 1.0f;
             for (std::size_t t = 0; t < n; ++t) {
                 const float pr = cr[t], pi = sgn * ci[t];
-                ar[t] += tr[t] * pr - ti[t] * pi;
-                ai[t] += tr[t] * pi + ti[t] * pr;
+                dst0_r[t] += tr[t] * pr - ti[t] * pi;
+                dst0_i[t] += tr[t] * pi + ti[t] * pr;
             }
         }
         i = end;
     }
-
-    if (noise_sigma > 0.0f) {
-        rng.fill_pairs(nr.data(), ni.data(), cnt);
-        for (std::size_t t = 0; t < cnt; ++t) {
-            ar[t] += noise_sigma * nr[t];
-            ai[t] += noise_sigma * ni[t];
-        }
-    }
-    for (std::size_t t = 0; t < cnt; ++t) out[t] = {ar[t], ai[t]};
 }
 
 }  // namespace hb

@@ -7,13 +7,23 @@
 // others are skipped. The quadrature model adds the image path ν·z* of every term (at the mirrored frequency).
 //
 // Band of a term: centre ± p·B/2 with p the polynomial order of its envelope and B = rf_occupied_hz, the part
-// of the RF window that holds signal. Default B = 0: a term is kept when its centre lies in the window. Why:
-// the output has the input's rate, so content of a kept term that lies beyond the window edge wraps around
-// (a term centred 2 MHz away with a 2.4 MHz wide envelope would fold a copy into the middle of the window);
-// with B = 0 only content near the window edges is lost, and a later IF filter removes that anyway. Set B to
-// the occupied width (tones: twice the largest offset from f_c) to keep every term that reaches the window.
-// Nonlinear envelopes (x², x³) of a wideband input occupy p·B and are computed at the input rate: exact when
-// p·B fits in fs, aliased otherwise (the design notes' "exact for band-limited inputs").
+// of the RF window that holds signal (0: unknown, taken as the whole window).
+//
+// No wrap-round. The output has the input's rate, so a term whose band reaches beyond the window would fold that
+// part back into the window (a phantom line at a wrong frequency: a station 500 kHz below the LO of a 455 kHz IF,
+// say). When any kept term reaches beyond the window, synthesis runs at twice the rate: the input is interpolated
+// ×2 (Kaiser, 100 dB), every term is synthesised there, and a window filter (−6 dB on the window edges, transition
+// 10 % of the rate, 100 dB) keeps the window and decimates back. Terms of order p ≤ 2 are then exact wherever their
+// band stays within ±1.5·fs of the window centre (they are kept only then); x³ terms are kept by their centre and
+// alias where 3·B exceeds the doubled rate (the design notes' "exact for band-limited inputs"). When every kept
+// term lies inside the window (a known narrow occupancy) the direct path at the input rate is exact and cheaper.
+//
+// Real models give the analytic representation of a real IF, which has no negative frequencies. Every term and its
+// conjugate are synthesised (a term straddling 0 Hz has content on both sides: with the LO inside the RF window
+// the wanted and the image land on opposite sides of 0 Hz in one term), and where the window holds 0 Hz a complex
+// FIR keeps the positive frequencies (−6 dB at 0 Hz, transition 4 % of the rate, 100 dB). DC (the mixer's offset)
+// is added after the filters. The output is exact in [exact_low_hz(), exact_high_hz()] and lags the input by
+// delay_samples() (fractional: a pure delay of every term).
 //
 // Phase: every NCO phase comes from a double-precision accumulator, re-seeded every chunk (2048 samples) into
 // 16 time lanes that step with a float phasor (a float recurrence alone drifts; platform notes).
@@ -46,15 +56,15 @@ enum class ZoneEnvelope { zone0, zone1, zone2, zone3, constant };
 // One synthesised output term (for reports and tests).
 struct ZoneTerm {
     ZoneEnvelope envelope = ZoneEnvelope::constant;  // U_|q| (constant: LO leakage or DC)
-    bool conjugate = false;         // the envelope is U_q* (q < 0, or the quadrature image path)
-    int lo_harmonic = 0;            // m: the term carries m·φ(t) of LO phase noise
-    double frequency_hz = 0.0;      // absolute output frequency of the term's centre
-    std::complex<double> coeff;     // amplitude factor on the envelope
-    bool straddles_edge = false;    // part of its band lies outside the window (that part wraps)
+    bool conjugate = false;                          // the envelope is U_q* (q < 0, or the quadrature image path)
+    int lo_harmonic = 0;                             // m: the term carries m·φ(t) of LO phase noise
+    double frequency_hz = 0.0;                       // absolute output frequency of the term's centre
+    std::complex<double> coeff;                      // amplitude factor on the envelope
+    bool straddles_edge = false;  // part of its band lies outside the window (filtered away at the doubled rate)
 };
 
 class MixerEmulator {
-public:
+  public:
     // Throws hb::InputError on a bad config (rate not positive, non-finite frequencies).
     static MixerEmulator make(const MixerParams& params, const EmulatorConfig& config);
     MixerEmulator();
@@ -69,9 +79,16 @@ public:
 
     double output_center_hz() const;
     bool bypass() const;
+    // The output filters (see above): the positive-frequency filter on, the synthesis rate over the input rate
+    // (1 or 2), the delay of the terms in output samples, and the absolute band the output is exact in.
+    bool analytic_filter() const;
+    int oversampling() const;
+    double delay_samples() const;
+    double exact_low_hz() const;
+    double exact_high_hz() const;
     std::span<const ZoneTerm> terms() const;  // empty for bypass
 
-private:
+  private:
     struct Impl;
     std::unique_ptr<Impl> impl_;
 };

@@ -611,6 +611,11 @@ ChainAnalysis SignalChain::analyze() const {
     PlanCheckOptions po;
     po.lo_uncertainty_hz = std::abs(m.layout.lo_hz - m.layout.lo_nominal_hz);
     po.usable_fraction = s.if_chain.decimation > 1 ? 0.8 : 1.0;
+    if (!m.zones[0].mixer.bypass()) {
+        // Only where the emulated IF is exact (every zone's emulator shares the output window).
+        po.usable_low_hz = m.zones[0].mixer.exact_low_hz();
+        po.usable_high_hz = m.zones[0].mixer.exact_high_hz();
+    }
     a.check = check_plan(a.if_out, a.lines, po);
     if (image_line >= 0) {
         const LineResult& img = a.check.lines[static_cast<std::size_t>(image_line - 1)];

@@ -1,6 +1,8 @@
 // The zone emulator against a brute-force real-valued time-domain simulation of the same plan scaled down to
 // audio frequencies, the predicted levels against the emulator's measured output, LO phase noise on the
 // output, and the block machinery (phase continuity, long-run phase accuracy, seeding, bypass).
+#include "dsp/mixer_emulator.hpp"
+
 #include <fftw3.h>
 #include <gtest/gtest.h>
 
@@ -11,7 +13,6 @@
 
 #include "dsp/errors.hpp"
 #include "dsp/mixer.hpp"
-#include "dsp/mixer_emulator.hpp"
 #include "dsp/units.hpp"
 #include "support/mixer_probe.hpp"
 
@@ -20,11 +21,14 @@ namespace {
 
 using test::cf32;
 using test::emulate;
+using test::emulate_settled;
 using test::make_tones;
 using test::Spectrum;
 using test::Tone;
 
-double db20(double a) { return 20.0 * std::log10(a); }
+double db20(double a) {
+    return 20.0 * std::log10(a);
+}
 
 EmulatorConfig config(double rf_center, double fs, double out_center, double occupied, std::uint64_t seed = 1) {
     return test::emulator_config(rf_center, fs, out_center, occupied, seed);
@@ -43,6 +47,11 @@ EmulatorConfig config(double rf_center, double fs, double out_center, double occ
 
 constexpr double kLo = 1024, kRf = 1300, kRfCentre = 1250, kIf = 276;
 constexpr double kDrive = -8, kIip3 = 6, kIip2 = 14, kPhase0 = 0.3;
+// A second, weaker tone in the image band (image of 1300 Hz about the 1024 Hz LO: 748 Hz). With the LO inside the
+// RF window, the image's (1, −1) term and the wanted's are one term whose band straddles 0 Hz: the image lands at
+// 1024 − 760 = 264 Hz on the positive side only through the conjugate member (the case a real IF window that
+// holds 0 Hz must get right).
+constexpr double kRf2 = 760, kDrive2 = -20, kPhase2 = -1.1;
 
 double test_lo(MixerModel model, double duty, double edge, double cycles) {
     if (model == MixerModel::ideal) return std::cos(kTwoPi * cycles);
@@ -70,7 +79,7 @@ struct BruteResult {
 BruteResult brute_force(MixerModel model, double duty, double edge) {
     const int n = 1 << 20;
     const double fs = n;
-    const double a = amplitude_from_db(kDrive);
+    const double a = amplitude_from_db(kDrive), a_2 = amplitude_from_db(kDrive2);
     const double a2 = 1.0 / amplitude_from_db(kIip2);
     const double a_ip3 = amplitude_from_db(kIip3);
     const double a3 = -4.0 / (3.0 * a_ip3 * a_ip3);
@@ -79,7 +88,8 @@ BruteResult brute_force(MixerModel model, double duty, double edge) {
     std::vector<cf32> z(static_cast<std::size_t>(n));
     for (int i = 0; i < n; ++i) {
         const double t = i / fs;
-        const double r = a * std::cos(kTwoPi * std::fmod(kRf * t, 1.0) + kPhase0);
+        const double r = a * std::cos(kTwoPi * std::fmod(kRf * t, 1.0) + kPhase0) +
+                         a_2 * std::cos(kTwoPi * std::fmod(kRf2 * t, 1.0) + kPhase2);
         const double u = r + a2 * r * r + a3 * r * r * r;
         const double lo_cycles = std::fmod(kLo * t, 1.0);
         const double li = test_lo(wave, duty, edge, lo_cycles);
@@ -121,19 +131,34 @@ TEST_P(ZoneVsBruteForce, ProductByProductWithin02dB) {
     const MixerParams p = resolve_mixer(s, kLo);
     const double fs = 8192;
     const double centre = if_window_center_hz(p, kIf, Injection::low);
-    MixerEmulator em = MixerEmulator::make(p, config(kRfCentre, fs, centre, 2 * (kRf - kRfCentre)));
-    const auto x = make_tones(8192, fs, {{kRf - kRfCentre, amplitude_from_db(kDrive), kPhase0}});
-    const Spectrum out = Spectrum::of(emulate(em, x, 1000), fs);
+    MixerEmulator em = MixerEmulator::make(p, config(kRfCentre, fs, centre, 2 * (kRfCentre - kRf2)));
+    const auto x = make_tones(8192, fs,
+                              {{kRf - kRfCentre, amplitude_from_db(kDrive), kPhase0},
+                               {kRf2 - kRfCentre, amplitude_from_db(kDrive2), kPhase2}});
+    const Spectrum out = Spectrum::of(emulate_settled(em, x, 1000), fs);
     const BruteResult bf = brute_force(c.model, c.duty, c.edge);
+    if (!bf.complex_out) {
+        EXPECT_TRUE(em.analytic_filter()) << "a real IF window holding 0 Hz";
+    }
 
     std::set<long long> freqs;
     for (int m = -20; m <= 20; ++m)
-        for (int n = -3; n <= 3; ++n) {
-            const long long f = std::llround(m * kLo + n * kRf);
-            if (f - centre < -fs / 2 + 200 || f - centre > fs / 2 - 200) continue;
-            if (!bf.complex_out && f < 200) continue;  // real: one side, away from 0 Hz
-            freqs.insert(f);
-        }
+        for (int n = -3; n <= 3; ++n)
+            for (int n2 = -3; n2 <= 3; ++n2) {
+                if (std::abs(n) + std::abs(n2) > 3) continue;
+                const long long f = std::llround(m * kLo + n * kRf + n2 * kRf2);
+                // Inside the band the emulator says it is exact in (its window filter's pass-band), and for a
+                // real IF away from 0 Hz.
+                if (f < em.exact_low_hz() + 20 || f > em.exact_high_hz() - 20) continue;
+                if (!bf.complex_out && f < 200) continue;
+                freqs.insert(f);
+            }
+    // The image of the second tone, on the positive side through the conjugate member: present and right.
+    if (!bf.complex_out) {
+        const double img = kLo - kRf2;
+        EXPECT_NEAR(db20(std::abs(out.at(img - centre))), db20(std::abs(bf.at(img))), 0.2) << c.name << ": image";
+        EXPECT_GT(db20(std::abs(bf.at(img))), -40.0);
+    }
     int compared = 0, absent = 0;
     double worst = 0;
     for (long long f : freqs) {
@@ -178,8 +203,9 @@ TEST_P(PredictedVsMeasured, Within05dBAboveNoise) {
     const double fs = 8192, n_samples = 65536, drive = -3;
     const MixerParams p = resolve_mixer(s, kLo);
     MixerEmulator em = MixerEmulator::make(p, config(kRfCentre, fs, kIf, 2 * (kRf - kRfCentre), 5));
-    const auto x = make_tones(static_cast<std::size_t>(n_samples), fs, {{kRf - kRfCentre, amplitude_from_db(drive), 0.4}});
-    const Spectrum out = Spectrum::of(emulate(em, x), fs);
+    const auto x =
+        make_tones(static_cast<std::size_t>(n_samples), fs, {{kRf - kRfCentre, amplitude_from_db(drive), 0.4}});
+    const Spectrum out = Spectrum::of(emulate_settled(em, x), fs);
     const double floor_db = -100 + p.conversion_gain_db + 10 * std::log10(fs / n_samples);  // per bin
 
     const MixerCoeffs coeffs = mixer_coeffs(p);
@@ -194,7 +220,8 @@ TEST_P(PredictedVsMeasured, Within05dBAboveNoise) {
             if (f - kIf < -fs / 2 + 200 || f - kIf > fs / 2 - 200 || f < 200) continue;
             const ProductLevel pl = predict_product(p, coeffs, m, n, drive);
             if (!(pl.dbfs > floor_db + 26)) continue;
-            EXPECT_NEAR(out.dbfs(f - kIf), pl.dbfs, 0.5) << GetParam() << ": (" << m << ", " << n << ") at " << f << " Hz";
+            EXPECT_NEAR(out.dbfs(f - kIf), pl.dbfs, 0.5)
+                << GetParam() << ": (" << m << ", " << n << ") at " << f << " Hz";
             worst = std::max(worst, std::abs(out.dbfs(f - kIf) - pl.dbfs));
             ++compared;
         }
@@ -239,7 +266,10 @@ TEST(MixerPhaseNoise, SidebandsFollowProfileAndHarmonicOrder) {
     MixerSpec s;
     s.model = MixerModel::ideal;
     s.lo.phase_noise = prof;
-    MixerEmulator ideal = MixerEmulator::make(resolve_mixer(s, 0.9e6), config(1e6, fs, 100e3, 0, 3));
+    // LO 400 kHz: the carrier converts to 600 kHz, the window (88 kHz to 1.112 MHz) keeps clear of 0 Hz.
+    // The input is a constant: an occupied RF width of 1 kHz keeps the sum product (1.4 MHz) out, whose own
+    // phase-noise skirt would otherwise add to the measured one at the outer offsets.
+    MixerEmulator ideal = MixerEmulator::make(resolve_mixer(s, 0.4e6), config(1e6, fs, 600e3, 1e3, 3));
     const auto y = emulate(ideal, x, 16384);
     double pw = 0;
     for (const cf32& v : y) pw += std::norm(std::complex<double>(v));
@@ -252,10 +282,11 @@ TEST(MixerPhaseNoise, SidebandsFollowProfileAndHarmonicOrder) {
                         1.0)
                 << "offset " << sgn * f << " Hz";
 
-    // The (3, −1) product of a ±1 switch: 3·350 kHz − 1 MHz = 50 kHz, alone in a window centred there.
+    // The (3, −1) product of a ±1 switch: 3·2 MHz − 1 MHz = 5 MHz, alone in a window centred there (the odd
+    // harmonics put the others at 1, 3, 7, 9 and 11 MHz).
     s.model = MixerModel::bipolar;
-    const MixerParams p3 = resolve_mixer(s, 350e3);
-    MixerEmulator third = MixerEmulator::make(p3, config(1e6, fs, 50e3, 0, 3));
+    const MixerParams p3 = resolve_mixer(s, 2e6);
+    MixerEmulator third = MixerEmulator::make(p3, config(1e6, fs, 5e6, 1e3, 3));
     ASSERT_EQ(third.terms().size(), 1u);
     EXPECT_EQ(third.terms()[0].lo_harmonic, 3);
     const auto y3 = emulate(third, x, 16384);
@@ -316,14 +347,16 @@ TEST(MixerEmulatorBlocks, OutputDoesNotDependOnBlockSize) {
 // Long-run phase accuracy: after 2^24 samples the NCO phase is still exact (a float phasor recurrence alone
 // is off by about −25 dB there; platform notes). One term, an awkward frequency, compared with the exact phase.
 TEST(MixerEmulatorBlocks, PhaseExactAfter2To24Samples) {
-    const MixerParams p = resolve_mixer(MixerSpec{}, 900000.123);
-    const double fs = 2.4e6, centre = 73456.789;
-    MixerEmulator em = MixerEmulator::make(p, config(1e6, fs, centre, 0));
+    // LO − RF = 1.900000123 MHz in a window (0.77 to 3.17 MHz) that keeps clear of 0 Hz and of RF + LO.
+    const MixerParams p = resolve_mixer(MixerSpec{}, 2900000.123);
+    const double fs = 2.4e6, centre = 1973456.789;
+    MixerEmulator em = MixerEmulator::make(p, config(1e6, fs, centre, 1e3));  // a constant input: narrow
     ASSERT_EQ(em.terms().size(), 1u);
+    ASSERT_EQ(em.oversampling(), 1);
     const std::size_t block = 16384, blocks = (std::size_t{1} << 24) / block;
     std::vector<cf32> in(block, cf32(1.0f, 0.0f)), out(block);
     for (std::size_t b = 0; b < blocks; ++b) em.process(in, out);
-    const double d = (1e6 - 900000.123) - centre;  // Hz, the output tone's offset
+    const double d = (2900000.123 - 1e6) - centre;  // Hz, the output tone's offset
     double max_err = 0;
     for (std::size_t i = 0; i < block; i += 97) {
         const double n = static_cast<double>((blocks - 1) * block + i);
@@ -361,9 +394,16 @@ TEST(MixerEmulatorBlocks, OnlyTermsReachingTheWindow) {
     EXPECT_TRUE(vhf.terms()[0].conjugate);  // q = −1: the LO above the RF turns the spectrum over
     EXPECT_EQ(vhf.terms()[0].lo_harmonic, 1);
     EXPECT_NEAR(vhf.terms()[0].frequency_hz, 10.7e6, 1e-3);
-    // A full 2.4 MHz of occupied RF through the cubic term spans ±3.6 MHz: part of it wraps (see the header).
+    // A full 2.4 MHz of occupied RF through the cubic term spans ±3.6 MHz: it reaches beyond the window, so the
+    // emulator synthesises at twice the rate and filters that part away (see the header). An unknown occupancy (0)
+    // is taken as the whole window; a known narrow one (100 kHz) stays inside and runs at the input rate.
     EXPECT_TRUE(vhf.terms()[0].straddles_edge);
-    EXPECT_FALSE(MixerEmulator::make(p, config(100e6, 2.4e6, 10.7e6, 0)).terms()[0].straddles_edge);
+    EXPECT_EQ(vhf.oversampling(), 2);
+    EXPECT_EQ(MixerEmulator::make(p, config(100e6, 2.4e6, 10.7e6, 0)).oversampling(), 2);
+    const MixerEmulator narrow = MixerEmulator::make(p, config(100e6, 2.4e6, 10.7e6, 100e3));
+    ASSERT_EQ(narrow.terms().size(), 1u);
+    EXPECT_FALSE(narrow.terms()[0].straddles_edge);
+    EXPECT_EQ(narrow.oversampling(), 1);
 
     MixerEmulator audio = MixerEmulator::make(resolve_mixer(s, kLo), config(kRfCentre, 8192, kIf, 100));
     EXPECT_GT(audio.terms().size(), 10u);

@@ -19,6 +19,7 @@ namespace {
 
 using test::cf32;
 using test::emulate;
+using test::emulate_settled;
 using test::make_tones;
 using test::Spectrum;
 using test::Tone;
@@ -224,7 +225,7 @@ TEST(MixerEmulator, IdealMultiplierSumAndDifference) {
     const MixerParams p = resolve_mixer(spec_of(MixerModel::ideal), 100e3);
     const double fs = 256e3;
     const auto x = make_tones(2560, fs, {{5e3, 1.0}});  // RF window at 25 kHz: the tone at 30 kHz, 0 dBFS
-    const auto y = emulate(p, config(25e3, fs, 100e3, 20e3), x);
+    const auto y = test::emulate_settled(p, config(25e3, fs, 100e3, 20e3), x);
     const Spectrum s = Spectrum::of(y, fs);
     EXPECT_NEAR(s.dbfs(70e3 - 100e3), -6.0206, 0.001);
     EXPECT_NEAR(s.dbfs(130e3 - 100e3), -6.0206, 0.001);
@@ -241,7 +242,7 @@ TEST(MixerEmulator, SwitchingConversionGainAndLoHarmonics) {
     const double in_db = db20(0.25);
 
     const MixerParams bip = resolve_mixer(spec_of(MixerModel::bipolar), f_lo);
-    const Spectrum b = Spectrum::of(emulate(bip, config(125e3, fs, 300e3, 20e3), x), fs);
+    const Spectrum b = Spectrum::of(emulate_settled(bip, config(125e3, fs, 300e3, 20e3), x), fs);
     const double wanted = b.dbfs(f_rf - f_lo - 300e3);
     EXPECT_NEAR(wanted - in_db, -3.92, 0.005);
     EXPECT_NEAR(b.dbfs(3 * f_lo - f_rf - 300e3) - wanted, -9.542, 0.005);
@@ -251,7 +252,7 @@ TEST(MixerEmulator, SwitchingConversionGainAndLoHarmonics) {
     EXPECT_LT(b.dbfs(f_rf - 300e3), -150);             // (0, 1): a ±1 switch has no DC term
 
     const MixerParams uni = resolve_mixer(spec_of(MixerModel::unipolar), f_lo);
-    const Spectrum u = Spectrum::of(emulate(uni, config(125e3, fs, 300e3, 20e3), x), fs);
+    const Spectrum u = Spectrum::of(emulate_settled(uni, config(125e3, fs, 300e3, 20e3), x), fs);
     const double uw = u.dbfs(f_rf - f_lo - 300e3);
     EXPECT_NEAR(uw - in_db, -9.94, 0.005);
     EXPECT_NEAR(u.dbfs(f_rf - 300e3) - uw, 3.92, 0.005);
@@ -260,7 +261,7 @@ TEST(MixerEmulator, SwitchingConversionGainAndLoHarmonics) {
     // An explicit conversion gain sets the wanted; the harmonics keep their relative levels.
     MixerSpec g = spec_of(MixerModel::bipolar);
     g.conversion_gain_db = 7.5;
-    const Spectrum gs = Spectrum::of(emulate(resolve_mixer(g, f_lo), config(125e3, fs, 300e3, 20e3), x), fs);
+    const Spectrum gs = Spectrum::of(emulate_settled(resolve_mixer(g, f_lo), config(125e3, fs, 300e3, 20e3), x), fs);
     EXPECT_NEAR(gs.dbfs(f_rf - f_lo - 300e3) - in_db, 7.5, 0.005);
     EXPECT_NEAR(gs.dbfs(3 * f_lo - f_rf - 300e3) - gs.dbfs(f_rf - f_lo - 300e3), -9.542, 0.005);
 }
@@ -286,7 +287,7 @@ TEST(MixerEmulator, QuadratureImageRejection) {
             EXPECT_NEAR(image_rejection_db(p), c.irr_db, 0.01);
             const double centre = if_window_center_hz(p, 102e3, inj);
             EXPECT_EQ(centre, inj == Injection::low ? 102e3 : -102e3);  // the wanted sits at f_RF − f_LO
-            const Spectrum sp = Spectrum::of(emulate(p, config(1.1e6, fs, centre, 10e3), x), fs);
+            const Spectrum sp = Spectrum::of(emulate_settled(p, config(1.1e6, fs, centre, 10e3), x), fs);
             const double wanted = sp.dbfs(0.0), image = sp.dbfs(-2 * centre);
             EXPECT_NEAR(wanted - image, c.irr_db, 0.1) << c.gain_db << " dB, " << c.phase_deg << " deg";
             EXPECT_NEAR(wanted - db20(0.1), p.conversion_gain_db, 0.005);  // |μ| = 1: the gain stays as set
@@ -308,7 +309,7 @@ TEST(MixerEmulator, TwoTonePolynomialProducts) {
     const MixerParams p = resolve_mixer(s, f_lo);
     const auto x = make_tones(4096, fs, {{f1 - fc, 0.1, 0.2}, {f2 - fc, 0.1, 1.1}});
     const double centre = 17000;
-    const Spectrum sp = Spectrum::of(emulate(p, config(fc, fs, centre, 200), x), fs);
+    const Spectrum sp = Spectrum::of(emulate_settled(p, config(fc, fs, centre, 200), x), fs);
     auto amp = [&](double f_out) { return std::abs(sp.at(f_out - centre)); };
     // Relative 1e-3 (0.009 dB): the envelopes are float.
     auto near = [&](double f_out, double expect) { EXPECT_NEAR(amp(f_out) / expect, 1.0, 1e-3) << f_out << " Hz"; };
@@ -338,7 +339,7 @@ TEST(MixerEmulator, TwoToneInterceptsInDbm) {
     const MixerParams p = resolve_mixer(s, f_lo, cal);
     const double a = amplitude_from_db(-30 - cal);
     const auto x = make_tones(4096, fs, {{f1 - fc, a, 0.0}, {f2 - fc, a, 2.0}});
-    const Spectrum sp = Spectrum::of(emulate(p, config(fc, fs, 17000, 200), x), fs);
+    const Spectrum sp = Spectrum::of(emulate_settled(p, config(fc, fs, 17000, 200), x), fs);
     auto dbm = [&](double f_out) { return sp.dbfs(f_out - 17000) + cal; };
     const double fund = dbm(f_lo - f1);
     EXPECT_NEAR(fund, -10.0, 0.2);
@@ -363,7 +364,7 @@ TEST(MixerEmulator, PortIsolation) {
     const double cal = -10, f_lo = 100e3, fs = 1.28e6;
     const MixerParams p = resolve_mixer(s, f_lo, cal);
     const auto x = make_tones(1280, fs, {{5e3, amplitude_from_db(-10), 0.0}});  // −20 dBm at 130 kHz
-    const Spectrum sp = Spectrum::of(emulate(p, config(125e3, fs, 300e3, 20e3), x), fs);
+    const Spectrum sp = Spectrum::of(emulate_settled(p, config(125e3, fs, 300e3, 20e3), x), fs);
     EXPECT_NEAR(sp.dbfs(f_lo - 300e3) + cal, 7 - 40, 0.01);
     EXPECT_NEAR(sp.dbfs(3 * f_lo - 300e3) - sp.dbfs(f_lo - 300e3), -9.542, 0.01);
     EXPECT_NEAR(sp.dbfs(130e3 - 300e3) + cal, -20 - 30, 0.01);
@@ -376,7 +377,7 @@ TEST(MixerEmulator, DcOffset) {
     MixerSpec s = spec_of(MixerModel::quadrature);
     s.dc_offset_dbfs = -40;
     const double fs = 1.024e6;
-    const Spectrum sp = Spectrum::of(emulate(resolve_mixer(s, 1e6), config(1.1e6, fs, 100e3, 0), std::vector<cf32>(1024)), fs);
+    const Spectrum sp = Spectrum::of(emulate_settled(resolve_mixer(s, 1e6), config(1.1e6, fs, 100e3, 0), std::vector<cf32>(1024)), fs);
     EXPECT_NEAR(sp.dbfs(-100e3), -40, 0.001);
 }
 
@@ -406,7 +407,7 @@ TEST(MixerEmulator, LoFrequencyOffset) {
     s.lo.offset_ppm = 100;
     const double fs = 102400;  // 100 Hz bins
     const auto x = make_tones(1024, fs, {{0.0, 0.5}});
-    const Spectrum sp = Spectrum::of(emulate(resolve_mixer(s, 1e6), config(1.1e6, fs, 100e3, 0), x), fs);
+    const Spectrum sp = Spectrum::of(emulate_settled(resolve_mixer(s, 1e6), config(1.1e6, fs, 100e3, 0), x), fs);
     EXPECT_NEAR(std::abs(sp.at(-100.0)), 0.5 * 2 / kPi, 1e-5);
     EXPECT_LT(std::abs(sp.at(0.0)), 1e-6);
 }

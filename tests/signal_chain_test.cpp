@@ -86,6 +86,10 @@ TEST(SignalChain, NoRfFilterMeansNoImageRejection) {
     chain.process(tones(fc, fs, 1 << 17, {{1.0e6, 0.1}, {1.914e6, 0.05}}));
     const ChainAnalysis a = chain.analyze();
     // A single switching mixer alone converts the image as well as the wanted: 0 dB, below the 30 dB limit.
+    for (auto& l : a.check.lines) printf("%s m=%d n=%d f=%.1f st=%d lvl=%.2f note=%s\n", l.line.label.c_str(), l.line.m, l.line.n, l.line.freq_hz, (int)l.status, l.level_dbfs, l.note.c_str());
+    printf("wanted %.1f %.2f img rf %.1f %.2f\n", a.check.wanted.freq_hz, a.check.wanted.level_dbfs, a.image.rf_hz, a.wanted_rf_dbfs);
+    for (auto& n : a.notes) printf("note %s\n", n.c_str());
+    for (double f = 450e3; f < 465e3; f += 500) { auto k = (std::size_t)std::llround(a.if_out.bin_of_freq(f)); printf("%.0f %.2f\n", f, 10*std::log10(a.if_out.power[k])); }
     EXPECT_NEAR(a.image.rejection_db, 0.0, 0.15);
     EXPECT_EQ(a.image.status, LineStatus::fail);
     EXPECT_FALSE(a.check.passed() && a.image.status == LineStatus::pass);
