@@ -6,6 +6,7 @@
 #include "dsp/errors.hpp"
 #include "dsp/filter_fir.hpp"
 #include "dsp/filter_kernels.hpp"
+#include "dsp/simd.hpp"
 #include "dsp/units.hpp"
 #include "dsp/vector_math.hpp"
 
@@ -30,10 +31,13 @@ struct Line {
     int pn = 0;            // LO phase-noise multiplier
     double freq_hz = 0.0;  // absolute output frequency
     std::complex<double> coeff;
-    double delta = 0.0;                                 // cycles per sample
-    double phase = 0.0;                                 // cycles, [0, 1), at the start of the next chunk
-    double lane_re[kLanes] = {}, lane_im[kLanes] = {};  // e^{j2πΔ·lane}: seeds are independent multiplies
-    float step_re = 1.0f, step_im = 0.0f;               // e^{j2πΔ·kLanes}
+    double delta = 0.0;  // cycles per sample
+    double phase = 0.0;  // cycles, [0, 1), at the start of the next chunk
+    // Seed offsets of the lanes, e^{j2πΔ·τ}: τ = lane at the input rate; at the doubled rate the chunk is stored as
+    // its even-time samples then its odd-time samples (the layout of the ×2 interpolator and the ÷2 window
+    // filter), so stream 0 has τ = 2·lane and stream 1 τ = 2·lane + 1. Seeds are independent multiplies.
+    double lane_re[2][kLanes] = {}, lane_im[2][kLanes] = {};
+    float step_re = 1.0f, step_im = 0.0f;  // e^{j2πΔ·os·kLanes}
     bool straddles = false;
 };
 
@@ -97,6 +101,36 @@ void acc_const(float* __restrict ar, float* __restrict ai, const float* seed_re,
     }
 }
 
+// A half-band low-pass of the doubled rate: cutoff (−6 dB) at a quarter of its rate, transition `tw` (fraction of
+// its rate), Kaiser window for kFilterAttenDb, checked like design_fir_lowpass (measured stop-band). The length is
+// 4k + 3: the centre is the only nonzero tap at an even offset from the centre (windowed sinc of cutoff 1/4: the
+// sinc's zeros), and the end taps are not zero. Those zeros are set exactly, so one polyphase branch is one tap.
+std::vector<double> halfband_lowpass(double tw) {
+    const double beta = kaiser_beta(kFilterAttenDb);
+    int n = kaiser_length(kFilterAttenDb, tw);
+    n += (3 - n % 4 + 4) % 4;  // up to 4k + 3
+    for (;; n += 4) {
+        std::vector<double> h = kaiser_lowpass(n, 0.25, beta);
+        const int c = (n - 1) / 2;
+        for (int i = 0; i < n; ++i)
+            if (i != c && (i - c) % 2 == 0) h[static_cast<std::size_t>(i)] = 0.0;
+        if (-fir_peak_db(h, 0.25 + tw / 2, 0.5) >= kFilterAttenDb - 1e-9) return h;
+    }
+}
+
+// out[t] += k·(re[t] + j·im[t]), t < cnt.
+void add_planar(cf32* out, const float* re, const float* im, std::size_t cnt, float k) {
+    constexpr std::size_t V = static_cast<std::size_t>(simd::kWidth);
+    float* o = reinterpret_cast<float*>(out);
+    const simd::vf kv = simd::splat(k);
+    std::size_t t = 0;
+    for (; t + V <= cnt; t += V) simd::add_interleaved(o + 2 * t, kv * simd::load(re + t), kv * simd::load(im + t));
+    for (; t < cnt; ++t) {
+        o[2 * t] += k * re[t];
+        o[2 * t + 1] += k * im[t];
+    }
+}
+
 int envelope_order(ZoneEnvelope e, bool cubic) {
     switch (e) {
         case ZoneEnvelope::zone0:
@@ -123,12 +157,10 @@ struct MixerEmulator::Impl {
     int os = 1;
     std::vector<Line> lines;  // sorted by |pn|, then pn
     std::vector<ZoneTerm> terms;
-    FirKernel interp_even, interp_odd;  // os = 2: the two phases of the ×2 interpolator
-    FirKernel window_fir;               // os = 2: keeps the window, decimates by 2
-    int window_phase = 0;
-    bool analytic = false;  // a real IF window that holds 0 Hz: keep the positive frequencies
-    FirKernel positive;
-    int positive_phase = 0;
+    Interp2Kernel interp;     // os = 2: the ×2 interpolator (half-band: one phase is a copy)
+    Decim2Kernel window_fir;  // os = 2: keeps the window, decimates by 2 (half-band)
+    bool analytic = false;    // a real IF window that holds 0 Hz: keep the positive frequencies
+    ShiftedFirKernel positive;
     double delay = 0.0;                    // output samples the filters delay the terms by
     std::complex<double> dc{0.0, 0.0};     // DC at 0 Hz: added after the filters, as a tone at −centre
     double dc_step = 0.0, dc_phase = 0.0;  // cycles per output sample, and the phase (cycles) of the next sample
@@ -140,15 +172,16 @@ struct MixerEmulator::Impl {
     GaussRng rng;
     float noise_sigma = 0.0f;  // per component
 
-    // Scratch (structure of arrays): os·kChunk at the synthesis rate, kChunk for the noise.
+    // Scratch (structure of arrays): os·kChunk at the synthesis rate, kChunk for the noise. At os = 2 a chunk of
+    // cnt input samples is stored as os streams of nh = cnt rounded up to the lanes: even-time, then odd-time.
     const float* e1re = nullptr;  // this chunk's E1: the input itself, or e1r/e1i with the cubic term
     const float* e1im = nullptr;
-    std::vector<float> xr, xi, e0, e1r, e1i, e2r, e2i, e3r, e3i, ar, ai, tr, ti, phi, br, bi, cr, ci, nr, ni;
-    std::vector<cf32> up, even, odd, acc;
+    std::vector<float> xr, xi, e0, e1r, e1i, e2r, e2i, e3r, e3i, ar, ai, tr, ti, phi, phi_t, br, bi, cr, ci, nr, ni;
 
     void run_chunk(const std::complex<float>* in, std::complex<float>* out, std::size_t cnt);
-    // Accumulates every line into (ar, ai) over n samples (m of them real), phase noise applied per group.
-    void accumulate(std::size_t m, std::size_t n);
+    // Accumulates every line into (ar, ai): os streams of nh samples each, m samples of the synthesis rate in all;
+    // phase noise applied per group.
+    void accumulate(std::size_t m, std::size_t nh);
 };
 
 MixerEmulator::MixerEmulator() = default;
@@ -245,20 +278,17 @@ MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfi
     s.exact_high = wc + half;
     if (s.os == 2) {
         // ×2 interpolator (real taps, split into its two phases) and the window filter (−6 dB on the window edges).
-        const FirLowpass ip = design_fir_lowpass(FirDesignMethod::kaiser, 0.225, 0.275, kFilterAttenDb, 0.1,
-                                                 "mixer emulator: interpolator");
-        std::vector<std::complex<double>> he, ho;
-        for (std::size_t i = 0; i < ip.taps.size(); ++i) (i % 2 == 0 ? he : ho).push_back(2.0 * ip.taps[i]);
-        s.interp_even.init(he, kChunk);
-        s.interp_odd.init(ho.empty() ? std::vector<std::complex<double>>{0.0} : ho, kChunk);
+        // Both are half-band filters (pass-band and stop-band symmetric about a quarter of the doubled rate).
+        const std::vector<double> ip = halfband_lowpass(0.05);
+        std::vector<double> h2(ip.size());
+        for (std::size_t i = 0; i < h2.size(); ++i) h2[i] = 2.0 * ip[i];
+        s.interp.init(h2, kChunk);
         const double t = kEdgeTransition / 4.0;  // at the doubled rate
-        const FirLowpass wf = design_fir_lowpass(FirDesignMethod::kaiser, 0.25 - t, 0.25 + t, kFilterAttenDb, 0.1,
-                                                 "mixer emulator: window filter");
-        std::vector<std::complex<double>> hw(wf.taps.begin(), wf.taps.end());
-        s.window_fir.init(hw, 2 * kChunk);
+        const std::vector<double> wf = halfband_lowpass(2.0 * t);
+        s.window_fir.init(wf, kChunk);
         // Delay in output samples: the interpolator's (L−1)/2 at 2× (its even phase leads by one input sample
         // per two taps) plus the window filter's.
-        s.delay = (static_cast<double>(ip.taps.size() - 1) / 2.0 + static_cast<double>(wf.taps.size() - 1) / 2.0) / 2.0;
+        s.delay = (static_cast<double>(ip.size() - 1) / 2.0 + static_cast<double>(wf.size() - 1) / 2.0) / 2.0;
         s.exact_low = wc - half * (1.0 - kEdgeTransition);
         s.exact_high = wc + half * (1.0 - kEdgeTransition);
     }
@@ -271,11 +301,9 @@ MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfi
         const FirLowpass lp = design_fir_lowpass(FirDesignMethod::kaiser, cut - dt, cut + dt, kFilterAttenDb, 0.1,
                                                  "mixer emulator: positive-frequency filter");
         const double shift = (half - wc) / 2.0 / fs;  // cycles per sample: the middle of the positive part
-        std::vector<std::complex<double>> h(lp.taps.size());
+        // Taps lp[i]·e^{j2π·shift·(i − mid)}, run as mix down, real low-pass, mix up (ShiftedFirKernel).
         const double mid = static_cast<double>(lp.taps.size() - 1) / 2.0;
-        for (std::size_t i = 0; i < h.size(); ++i)
-            h[i] = lp.taps[i] * std::polar(1.0, kTwoPi * shift * (static_cast<double>(i) - mid));
-        s.positive.init(h, kChunk);
+        s.positive.init(lp.taps, shift, mid, kChunk);
         s.delay += mid;
         s.exact_low = std::max(s.exact_low, dt * fs);
         s.exact_high = std::min(s.exact_high, wc + half - dt * fs);
@@ -287,12 +315,15 @@ MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfi
     // NCO steps at the synthesis rate; order by phase-noise multiplier.
     for (Line& l : s.lines) {
         l.delta /= rate;
-        for (std::size_t lane = 0; lane < kLanes; ++lane) {
-            const double a = kTwoPi * std::fmod(l.delta * static_cast<double>(lane), 1.0);
-            l.lane_re[lane] = std::cos(a);
-            l.lane_im[lane] = std::sin(a);
-        }
-        const std::complex<double> st = std::polar(1.0, kTwoPi * l.delta * static_cast<double>(kLanes));
+        for (int stream = 0; stream < s.os; ++stream)
+            for (std::size_t lane = 0; lane < kLanes; ++lane) {
+                const double tau = static_cast<double>(s.os * lane + static_cast<std::size_t>(stream));
+                const double a = kTwoPi * std::fmod(l.delta * tau, 1.0);
+                l.lane_re[stream][lane] = std::cos(a);
+                l.lane_im[stream][lane] = std::sin(a);
+            }
+        const std::complex<double> st =
+            std::polar(1.0, kTwoPi * std::fmod(l.delta * static_cast<double>(s.os * kLanes), 1.0));
         l.step_re = static_cast<float>(st.real());
         l.step_im = static_cast<float>(st.imag());
     }
@@ -315,18 +346,13 @@ MixerEmulator MixerEmulator::make(const MixerParams& params, const EmulatorConfi
     if (std::isfinite(c.noise_out_dbfs_per_hz))
         s.noise_sigma = static_cast<float>(std::sqrt(power_from_db(c.noise_out_dbfs_per_hz) * fs / 2.0));
 
-    const std::size_t big = static_cast<std::size_t>(s.os) * kChunk;
+    const std::size_t big = static_cast<std::size_t>(s.os) * kChunk;  // kChunk is a multiple of kLanes
     for (auto* v : {&s.xr, &s.xi, &s.e0, &s.e1r, &s.e1i, &s.e2r, &s.e2i, &s.e3r, &s.e3i, &s.ar, &s.ai, &s.tr, &s.ti,
                     &s.phi, &s.br, &s.bi, &s.cr, &s.ci})
         v->assign(big, 0.0f);
+    if (s.pn_on && s.os == 2) s.phi_t.assign(big, 0.0f);
     s.nr.assign(kChunk, 0.0f);
     s.ni.assign(kChunk, 0.0f);
-    s.acc.assign(big, cf32{});
-    if (s.os == 2) {
-        s.up.assign(big, cf32{});
-        s.even.assign(kChunk, cf32{});
-        s.odd.assign(kChunk, cf32{});
-    }
     em.reset();
     return em;
 }
@@ -335,8 +361,9 @@ void MixerEmulator::reset() {
     if (!impl_ || impl_->bypass) return;
     Impl& s = *impl_;
     for (Line& l : s.lines) l.phase = 0.0;
-    for (FirKernel* f : {&s.interp_even, &s.interp_odd, &s.window_fir, &s.positive}) f->reset();
-    s.window_phase = s.positive_phase = 0;
+    s.interp.reset();
+    s.window_fir.reset();
+    s.positive.reset();
     // The terms leave the filters `delay` samples late: DC starts as if it had been delayed the same.
     s.dc_phase = -s.dc_step * s.delay;
     s.dc_phase -= std::floor(s.dc_phase);
@@ -385,102 +412,106 @@ void MixerEmulator::process(std::span<const std::complex<float>> in, std::span<s
 }
 
 void MixerEmulator::Impl::run_chunk(const std::complex<float>* in, std::complex<float>* out, std::size_t cnt) {
-    const std::size_t m = static_cast<std::size_t>(os) * cnt;  // samples at the synthesis rate
-    const std::size_t n = (m + kLanes - 1) / kLanes * kLanes;  // kernels run on whole lane groups
+    const std::size_t m = static_cast<std::size_t>(os) * cnt;     // samples at the synthesis rate
+    const std::size_t nh = (cnt + kLanes - 1) / kLanes * kLanes;  // each stream runs on whole lane groups
+    const std::size_t n = static_cast<std::size_t>(os) * nh;      // elements of the chunk's buffers
     float* __restrict pxr = xr.data();
     float* __restrict pxi = xi.data();
     if (os == 2) {
-        int ph = 0;
-        interp_even.process(in, cnt, even.data(), 1, ph);
-        interp_odd.process(in, cnt, odd.data(), 1, ph);
-        for (std::size_t i = 0; i < cnt; ++i) {
-            pxr[2 * i] = even[i].real();
-            pxi[2 * i] = even[i].imag();
-            pxr[2 * i + 1] = odd[i].real();
-            pxi[2 * i + 1] = odd[i].imag();
-        }
+        interp.process(in, cnt, pxr, pxi, pxr + nh, pxi + nh);
+        std::fill(pxr + cnt, pxr + nh, 0.0f);
+        std::fill(pxi + cnt, pxi + nh, 0.0f);
+        std::fill(pxr + nh + cnt, pxr + n, 0.0f);
+        std::fill(pxi + nh + cnt, pxi + n, 0.0f);
     } else {
-        for (std::size_t i = 0; i < cnt; ++i) {
-            pxr[i] = in[i].real();
-            pxi[i] = in[i].imag();
-        }
+        deinterleave(in, cnt, pxr, pxi);
+        std::fill(pxr + cnt, pxr + n, 0.0f);
+        std::fill(pxi + cnt, pxi + n, 0.0f);
     }
-    std::fill(pxr + m, pxr + n, 0.0f);
-    std::fill(pxi + m, pxi + n, 0.0f);
 
     // RF zone envelopes (constants are in the line coefficients): E0 = |x|², E1 = x·(1 + c3|x|²), E2 = x², E3 = x³.
-    if (need_e0) {
-        float* __restrict o = e0.data();
-        for (std::size_t i = 0; i < n; ++i) o[i] = pxr[i] * pxr[i] + pxi[i] * pxi[i];
-    }
+    // n is a whole number of lane groups, so these loops run on whole vectors.
+    using simd::vf;
+    constexpr std::size_t V = static_cast<std::size_t>(simd::kWidth);
     e1re = pxr;
     e1im = pxi;
+    const vf k3 = simd::splat(c3), two = simd::splat(2.0f), one = simd::splat(1.0f);
+    for (std::size_t i = 0; i < n; i += V) {
+        const vf a = simd::load(pxr + i), b = simd::load(pxi + i);
+        const vf p0 = a * a + b * b;
+        if (need_e0) simd::store(e0.data() + i, p0);
+        if (e1_cubic) {
+            const vf k = one + k3 * p0;
+            simd::store(e1r.data() + i, a * k);
+            simd::store(e1i.data() + i, b * k);
+        }
+        if (need_e2 || need_e3) {
+            const vf qr = a * a - b * b, qi = two * a * b;
+            simd::store(e2r.data() + i, qr);
+            simd::store(e2i.data() + i, qi);
+            if (need_e3) {
+                simd::store(e3r.data() + i, qr * a - qi * b);
+                simd::store(e3i.data() + i, qr * b + qi * a);
+            }
+        }
+    }
     if (e1_cubic) {
-        float* __restrict o_r = e1r.data();
-        float* __restrict o_i = e1i.data();
-        const float* __restrict p0 = e0.data();
-        for (std::size_t i = 0; i < n; ++i) {
-            const float k = 1.0f + c3 * p0[i];
-            o_r[i] = pxr[i] * k;
-            o_i[i] = pxi[i] * k;
-        }
-        e1re = o_r;
-        e1im = o_i;
-    }
-    if (need_e2 || need_e3) {
-        float* __restrict o_r = e2r.data();
-        float* __restrict o_i = e2i.data();
-        for (std::size_t i = 0; i < n; ++i) {
-            o_r[i] = pxr[i] * pxr[i] - pxi[i] * pxi[i];
-            o_i[i] = 2.0f * pxr[i] * pxi[i];
-        }
-    }
-    if (need_e3) {
-        float* __restrict o_r = e3r.data();
-        float* __restrict o_i = e3i.data();
-        const float* __restrict q_r = e2r.data();
-        const float* __restrict q_i = e2i.data();
-        for (std::size_t i = 0; i < n; ++i) {
-            o_r[i] = q_r[i] * pxr[i] - q_i[i] * pxi[i];
-            o_i[i] = q_r[i] * pxi[i] + q_i[i] * pxr[i];
-        }
+        e1re = e1r.data();
+        e1im = e1i.data();
     }
 
     if (pn_on) {
-        pn.generate(phi.data(), m);
-        std::fill(phi.begin() + static_cast<std::ptrdiff_t>(m), phi.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
+        if (os == 2) {
+            // Time order from the source, stored as the even-time then the odd-time stream.
+            pn.generate(phi_t.data(), m);
+            std::fill(phi.begin(), phi.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
+            for (std::size_t i = 0; i < cnt; ++i) {
+                phi[i] = phi_t[2 * i];
+                phi[nh + i] = phi_t[2 * i + 1];
+            }
+        } else {
+            pn.generate(phi.data(), m);
+            std::fill(phi.begin() + static_cast<std::ptrdiff_t>(m), phi.begin() + static_cast<std::ptrdiff_t>(n), 0.0f);
+        }
         const float* __restrict ph = phi.data();
         float* __restrict pbr = br.data();
         float* __restrict pbi = bi.data();
-        for (std::size_t i = 0; i < n; ++i) vmath::sincos_turns(ph[i] * 0.159154943091895336f, pbi[i], pbr[i]);
+        for (std::size_t b = 0; b < n; b += kLanes)
+            for (std::size_t i = b; i < b + kLanes; ++i)
+                vmath::sincos_turns(ph[i] * 0.159154943091895336f, pbi[i], pbr[i]);
     }
-    accumulate(m, n);
+    accumulate(m, nh);
 
-    if (os == 2) {
-        for (std::size_t t = 0; t < m; ++t) acc[t] = {ar[t], ai[t]};
-        window_fir.process(acc.data(), m, out, 2, window_phase);
-    } else {
-        for (std::size_t t = 0; t < cnt; ++t) out[t] = {ar[t], ai[t]};
-    }
-    if (analytic) positive.process(out, cnt, out, 1, positive_phase);
+    if (os == 2)
+        window_fir.process(ar.data(), ai.data(), ar.data() + nh, ai.data() + nh, cnt, out);
+    else
+        interleave(ar.data(), ai.data(), cnt, out);
+    if (analytic) positive.process(out, cnt, out);
     if (dc != std::complex<double>{}) {
-        // A tone at −centre from a double-precision phase, re-seeded per chunk.
-        std::complex<double> rot = dc * std::polar(1.0, kTwoPi * dc_phase);
-        const std::complex<double> step = std::polar(1.0, kTwoPi * dc_step);
-        for (std::size_t t = 0; t < cnt; ++t) {
-            out[t] += cf32(static_cast<float>(rot.real()), static_cast<float>(rot.imag()));
-            rot *= step;
+        // A tone at −centre from a double-precision phase, re-seeded per chunk, in time lanes like the terms.
+        alignas(64) float sr[kLanes], si[kLanes];
+        for (std::size_t lane = 0; lane < kLanes; ++lane) {
+            const std::complex<double> v =
+                dc * std::polar(1.0, kTwoPi * std::fmod(dc_phase + dc_step * static_cast<double>(lane), 1.0));
+            sr[lane] = static_cast<float>(v.real());
+            si[lane] = static_cast<float>(v.imag());
         }
+        const std::complex<double> st = std::polar(1.0, kTwoPi * std::fmod(dc_step * double(kLanes), 1.0));
+        std::fill(tr.begin(), tr.begin() + static_cast<std::ptrdiff_t>(nh), 0.0f);
+        std::fill(ti.begin(), ti.begin() + static_cast<std::ptrdiff_t>(nh), 0.0f);
+        acc_const(tr.data(), ti.data(), sr, si, static_cast<float>(st.real()), static_cast<float>(st.imag()), nh);
+        add_planar(out, tr.data(), ti.data(), cnt, 1.0f);
         dc_phase += dc_step * static_cast<double>(cnt);
         dc_phase -= std::floor(dc_phase);
     }
     if (noise_sigma > 0.0f) {
         rng.fill_pairs(nr.data(), ni.data(), cnt);
-        for (std::size_t t = 0; t < cnt; ++t) out[t] += cf32(noise_sigma * nr[t], noise_sigma * ni[t]);
+        add_planar(out, nr.data(), ni.data(), cnt, noise_sigma);
     }
 }
 
-void MixerEmulator::Impl::accumulate(std::size_t cnt, std::size_t n) {
+void MixerEmulator::Impl::accumulate(std::size_t cnt, std::size_t nh) {
+    const std::size_t n = static_cast<std::size_t>(os) * nh;
     const std::size_t begin = 0, end_all = lines.size();
     float* dst0_r = ar.data();
     float* dst0_i = ai.data();
@@ -513,56 +544,64 @@ void MixerEmulator::Impl::accumulate(std::size_t cnt, std::size_t n) {
             while (end < end_all && lines[end].pn == pnk) ++end;
         for (std::size_t j = i; j < end; ++j) {
             Line& l = lines[j];
-            // Lane seeds coeff·e^{j2π(phase + Δ·lane)} in double (multiplied out by hand: std::complex
-            // multiplication goes through the NaN-safe library call).
+            // Lane seeds coeff·e^{j2π(phase + Δ·τ)} in double (multiplied out by hand: std::complex
+            // multiplication goes through the NaN-safe library call), per stream.
             const double c0 = std::cos(kTwoPi * l.phase), s0 = std::sin(kTwoPi * l.phase);
             const double ar0 = l.coeff.real() * c0 - l.coeff.imag() * s0;
             const double ai0 = l.coeff.real() * s0 + l.coeff.imag() * c0;
-            for (std::size_t lane = 0; lane < kLanes; ++lane) {
-                seed_re[lane] = static_cast<float>(ar0 * l.lane_re[lane] - ai0 * l.lane_im[lane]);
-                seed_im[lane] = static_cast<float>(ar0 * l.lane_im[lane] + ai0 * l.lane_re[lane]);
+            for (int stream = 0; stream < os; ++stream) {
+                for (std::size_t lane = 0; lane < kLanes; ++lane) {
+                    seed_re[lane] = static_cast<float>(ar0 * l.lane_re[stream][lane] - ai0 * l.lane_im[stream][lane]);
+                    seed_im[lane] = static_cast<float>(ar0 * l.lane_im[stream][lane] + ai0 * l.lane_re[stream][lane]);
+                }
+                const std::size_t o = static_cast<std::size_t>(stream) * nh;
+                float* d_r = dst_r + o;
+                float* d_i = dst_i + o;
+                const float* er = nullptr;  // the complex envelope of zones 1..3
+                const float* ei = nullptr;
+                switch (l.env) {
+                    case ZoneEnvelope::zone0:
+                        acc_real(e0.data() + o, d_r, d_i, seed_re, seed_im, l.step_re, l.step_im, nh);
+                        break;
+                    case ZoneEnvelope::constant:
+                        acc_const(d_r, d_i, seed_re, seed_im, l.step_re, l.step_im, nh);
+                        break;
+                    case ZoneEnvelope::zone1:
+                        er = e1re + o, ei = e1im + o;
+                        break;
+                    case ZoneEnvelope::zone2:
+                        er = e2r.data() + o, ei = e2i.data() + o;
+                        break;
+                    case ZoneEnvelope::zone3:
+                        er = e3r.data() + o, ei = e3i.data() + o;
+                        break;
+                }
+                if (er && l.conj)
+                    acc_complex<true>(er, ei, d_r, d_i, seed_re, seed_im, l.step_re, l.step_im, nh);
+                else if (er)
+                    acc_complex<false>(er, ei, d_r, d_i, seed_re, seed_im, l.step_re, l.step_im, nh);
             }
-            const float* er = nullptr;  // the complex envelope of zones 1..3
-            const float* ei = nullptr;
-            switch (l.env) {
-                case ZoneEnvelope::zone0:
-                    acc_real(e0.data(), dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
-                    break;
-                case ZoneEnvelope::constant:
-                    acc_const(dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
-                    break;
-                case ZoneEnvelope::zone1:
-                    er = e1re, ei = e1im;
-                    break;
-                case ZoneEnvelope::zone2:
-                    er = e2r.data(), ei = e2i.data();
-                    break;
-                case ZoneEnvelope::zone3:
-                    er = e3r.data(), ei = e3i.data();
-                    break;
-            }
-            if (er && l.conj)
-                acc_complex<true>(er, ei, dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
-            else if (er)
-                acc_complex<false>(er, ei, dst_r, dst_i, seed_re, seed_im, l.step_re, l.step_im, n);
             // Exact phase for the next chunk, from the double accumulator.
             l.phase += l.delta * static_cast<double>(cnt);
             l.phase -= std::floor(l.phase);
         }
         if (rotate) {
             const int ak = pnk < 0 ? -pnk : pnk;
+            // n is whole lane groups: the inner loops have a fixed count and vectorise.
             for (; cur_k < ak; ++cur_k)
-                for (std::size_t t = 0; t < n; ++t) {
-                    const float r = cr[t] * br[t] - ci[t] * bi[t];
-                    ci[t] = cr[t] * bi[t] + ci[t] * br[t];
-                    cr[t] = r;
-                }
+                for (std::size_t b = 0; b < n; b += kLanes)
+                    for (std::size_t t = b; t < b + kLanes; ++t) {
+                        const float r = cr[t] * br[t] - ci[t] * bi[t];
+                        ci[t] = cr[t] * bi[t] + ci[t] * br[t];
+                        cr[t] = r;
+                    }
             const float sgn = pnk < 0 ? -1.0f : 1.0f;
-            for (std::size_t t = 0; t < n; ++t) {
-                const float pr = cr[t], pi = sgn * ci[t];
-                dst0_r[t] += tr[t] * pr - ti[t] * pi;
-                dst0_i[t] += tr[t] * pi + ti[t] * pr;
-            }
+            for (std::size_t b = 0; b < n; b += kLanes)
+                for (std::size_t t = b; t < b + kLanes; ++t) {
+                    const float pr = cr[t], pi = sgn * ci[t];
+                    dst0_r[t] += tr[t] * pr - ti[t] * pi;
+                    dst0_i[t] += tr[t] * pi + ti[t] * pr;
+                }
         }
         i = end;
     }
