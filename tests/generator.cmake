@@ -1,5 +1,6 @@
 # The generator module must be built before the tests that load it through SoapySDR.
 add_dependencies(soapy_source_test hetbench_gen)
+add_dependencies(pipeline_test hetbench_gen)
 
 # SoapyRemote: stream from the generator through a SoapySDRServer on loopback (tests/remote_test.sh).
 add_test(NAME SoapyRemote.GeneratorOverLoopback

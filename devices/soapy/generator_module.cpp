@@ -18,7 +18,6 @@
 #include <SoapySDR/Formats.hpp>
 #include <SoapySDR/Registry.hpp>
 #include <SoapySDR/Time.hpp>
-
 #include <algorithm>
 #include <chrono>
 #include <cmath>
@@ -44,9 +43,9 @@ constexpr double kLnaMax = 30.0, kLnaStep = 3.0, kIfMax = 30.0, kIfStep = 0.5;
 constexpr std::size_t kMtu = 8192;
 constexpr double kBufferSeconds = 0.25;  // throttled: a reader this far behind overflows the device buffer
 
-const char* const kArgKeys[] = {"scenario",     "seed",          "throttle", "format",        "overflow_every",
-                                "overflow_skip", "timeout_at",   "timeout_count", "error_at", "disconnect_at",
-                                "freeze_at",     "label",        "serial"};
+const char* const kArgKeys[] = {"scenario",      "seed",       "throttle",      "format",   "overflow_every",
+                                "overflow_skip", "timeout_at", "timeout_count", "error_at", "disconnect_at",
+                                "freeze_at",     "label",      "serial"};
 
 bool is_our_key(const std::string& k) {
     return std::find(std::begin(kArgKeys), std::end(kArgKeys), k) != std::end(kArgKeys);
@@ -91,12 +90,12 @@ struct Faults {
 };
 
 class GeneratorDevice : public SoapySDR::Device {
-public:
+  public:
     explicit GeneratorDevice(const SoapySDR::Kwargs& args) : synth_(load(args), seed_of(args)) {
         for (const auto& [k, v] : args)
             if (!is_our_key(k) && k != "driver" && !is_transport_key(k))
-                throw std::runtime_error(std::string(kDriver) + ": unknown device arg \"" + k + "\"; allowed: " +
-                                         allowed_keys());
+                throw std::runtime_error(std::string(kDriver) + ": unknown device arg \"" + k +
+                                         "\"; allowed: " + allowed_keys());
         scenario_path_ = args.count("scenario") ? args.at("scenario") : "";
         seed_ = seed_of(args);
         throttle_ = arg_bool(args, "throttle", true);
@@ -181,9 +180,12 @@ public:
     }
     void setGain(const int, const std::size_t, const std::string& name, const double value) override {
         std::lock_guard<std::mutex> lock(mutex_);
-        if (name == "LNA") lna_db_ = std::clamp(std::round(value / kLnaStep) * kLnaStep, 0.0, kLnaMax);
-        else if (name == "IF") if_db_ = std::clamp(std::round(value / kIfStep) * kIfStep, 0.0, kIfMax);
-        else throw std::runtime_error(std::string(kDriver) + ": unknown gain \"" + name + "\"; expected LNA or IF");
+        if (name == "LNA")
+            lna_db_ = std::clamp(std::round(value / kLnaStep) * kLnaStep, 0.0, kLnaMax);
+        else if (name == "IF")
+            if_db_ = std::clamp(std::round(value / kIfStep) * kIfStep, 0.0, kIfMax);
+        else
+            throw std::runtime_error(std::string(kDriver) + ": unknown gain \"" + name + "\"; expected LNA or IF");
         apply_gain();
     }
     double getGain(const int, const std::size_t) const override {
@@ -277,7 +279,8 @@ public:
                                   const SoapySDR::Kwargs&) override {
         if (dir != SOAPY_SDR_RX) throw std::runtime_error(std::string(kDriver) + ": receive only");
         if (format != SOAPY_SDR_CF32 && format != SOAPY_SDR_CS16)
-            throw std::runtime_error(std::string(kDriver) + ": stream format " + format + " not supported (CF32, CS16)");
+            throw std::runtime_error(std::string(kDriver) + ": stream format " + format +
+                                     " not supported (CF32, CS16)");
         if (channels.size() > 1 || (channels.size() == 1 && channels[0] != 0))
             throw std::runtime_error(std::string(kDriver) + ": one channel (0) only");
         std::lock_guard<std::mutex> lock(mutex_);
@@ -303,8 +306,8 @@ public:
         return 0;
     }
 
-    int readStream(SoapySDR::Stream*, void* const* buffs, const std::size_t num_elems, int& flags, long long& time_ns_out,
-                   const long timeout_us) override {
+    int readStream(SoapySDR::Stream*, void* const* buffs, const std::size_t num_elems, int& flags,
+                   long long& time_ns_out, const long timeout_us) override {
         std::unique_lock<std::mutex> lock(mutex_);
         flags = 0;
         const auto deadline = Clock::now() + std::chrono::microseconds(std::max(0L, timeout_us));
@@ -336,9 +339,16 @@ public:
             want = static_cast<std::size_t>(std::min<std::uint64_t>(want, next_overflow_ - next_index_));
         if (throttle_) {
             // Real time: samples exist once their time has come. A reader too far behind loses samples.
-            const auto due = [&] { return static_cast<std::uint64_t>(std::chrono::duration<double>(Clock::now() - t0_).count() *
-                                                                      synth_.tuning().sample_rate_hz); };
-            std::uint64_t avail = due() - std::min(due(), paced_);
+            const auto due = [&] {
+                return static_cast<std::uint64_t>(std::chrono::duration<double>(Clock::now() - t0_).count() *
+                                                  synth_.tuning().sample_rate_hz);
+            };
+            // One reading of the clock per difference: two could straddle paced_ and wrap the unsigned result.
+            auto ahead = [&] {
+                const std::uint64_t d = due();
+                return d > paced_ ? d - paced_ : 0;
+            };
+            std::uint64_t avail = ahead();
             if (avail > static_cast<std::uint64_t>(kBufferSeconds * synth_.tuning().sample_rate_hz)) {
                 drop(avail);
                 return SOAPY_SDR_OVERFLOW;
@@ -349,7 +359,7 @@ public:
                 lock.unlock();
                 std::this_thread::sleep_until(std::min(ready, deadline));
                 lock.lock();
-                avail = due() - std::min(due(), paced_);
+                avail = ahead();
                 if (avail == 0) return SOAPY_SDR_TIMEOUT;
                 want = std::min<std::size_t>(want, avail);
             }
@@ -360,7 +370,7 @@ public:
         return static_cast<int>(want);
     }
 
-private:
+  private:
     static hb::Scenario load(const SoapySDR::Kwargs& args) {
         auto it = args.find("scenario");
         if (it == args.end() || it->second.empty()) return hb::Scenario{};
@@ -433,7 +443,8 @@ private:
             take(tmp, k);
             for (std::size_t i = 0; i < k; ++i) {
                 out[2 * i] = static_cast<std::int16_t>(std::lrint(std::clamp(tmp[i].real(), -1.0f, 1.0f) * 32767.0f));
-                out[2 * i + 1] = static_cast<std::int16_t>(std::lrint(std::clamp(tmp[i].imag(), -1.0f, 1.0f) * 32767.0f));
+                out[2 * i + 1] =
+                    static_cast<std::int16_t>(std::lrint(std::clamp(tmp[i].imag(), -1.0f, 1.0f) * 32767.0f));
             }
             out += 2 * k;
             n -= k;
@@ -452,12 +463,12 @@ private:
     bool stream_open_ = false, active_ = false, cs16_ = false, disconnected_ = false;
     std::vector<cf32> buffer_;
     std::size_t filled_ = 0, pos_ = 0;
-    std::uint64_t next_index_ = 0;     // stream index of the next sample (delivered or dropped)
-    std::uint64_t rate_index_ = 0;     // index and time where the current sample rate began
+    std::uint64_t next_index_ = 0;  // stream index of the next sample (delivered or dropped)
+    std::uint64_t rate_index_ = 0;  // index and time where the current sample rate began
     long long rate_time_ns_ = 0;
     std::uint64_t next_overflow_ = 0;  // index of the next injected overflow
     int timeouts_done_ = 0;
-    Clock::time_point t0_;             // real-time pacing: wall clock of paced_ = 0
+    Clock::time_point t0_;  // real-time pacing: wall clock of paced_ = 0
     std::uint64_t paced_ = 0;
 };
 
@@ -475,7 +486,9 @@ SoapySDR::KwargsList find_generator(const SoapySDR::Kwargs& args) {
     return {found};
 }
 
-SoapySDR::Device* make_generator(const SoapySDR::Kwargs& args) { return new GeneratorDevice(args); }
+SoapySDR::Device* make_generator(const SoapySDR::Kwargs& args) {
+    return new GeneratorDevice(args);
+}
 
 const SoapySDR::Registry registration(kDriver, &find_generator, &make_generator, SOAPY_SDR_ABI_VERSION);
 
