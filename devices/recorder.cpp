@@ -95,10 +95,16 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
         throw InputError("recorder duration: got " + format_number(opt.duration_s) + " s, expected 0 or more seconds");
     if (opt.block_samples == 0 || opt.queue_blocks == 0)
         throw InputError("recorder: block_samples and queue_blocks must be at least 1");
+    if (!std::isfinite(opt.reopen_for_s) || opt.reopen_for_s < 0 || !(opt.reopen_first_delay_s > 0) ||
+        !(opt.reopen_max_delay_s >= opt.reopen_first_delay_s) || !std::isfinite(opt.stall_timeout_s) ||
+        opt.stall_timeout_s < 0)
+        throw InputError("recorder: reopen_for_s and stall_timeout_s must be 0 or more, the reopen delays above 0");
     if (!(opt.flush_interval_s > 0))
         throw InputError("recorder flush interval: got " + format_number(opt.flush_interval_s) + " s, expected above 0");
 
-    const StreamInfo& info0 = source.info();
+    const StreamInfo info0 = source.info();  // a copy: after a reopen `source` is gone
+    SampleSource* src = &source;             // the source being read (a new one after each reopen)
+    bool src_is_original = true;
     const double rate = info0.sample_rate_hz;
     if (!(rate > 0) || !std::isfinite(rate))
         throw InputError("recorder: the source reports a sample rate of " + format_number(rate) + " Hz");
@@ -232,6 +238,7 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
     std::uint64_t gap_lost = 0, gap_overflow = 0, gap_dropped = 0;  // the gap being accumulated
     std::uint64_t gap_earlier = 0;  // earlier gaps folded in when the disk failed
     bool gap_open = false, gap_unknown = false, stream_index_known = true;
+    std::string gap_note;  // why the gap has no count (a reopened source), for its comment
     double center = info0.center_hz;
 
     auto close_gap = [&] {  // called before the first sample after a gap is enqueued, and at the end
@@ -249,7 +256,8 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
         if (gap_earlier) what += std::string(what.empty() ? "" : ", ") + std::to_string(gap_earlier) +
                                  " in earlier gaps after the last written sample";
         if (gap_unknown)
-            a.comment = "samples lost before this sample: an unknown number (overflow without a count)" +
+            a.comment = "samples lost before this sample: an unknown number (" +
+                        (gap_note.empty() ? std::string("overflow without a count") : gap_note) + ")" +
                         (what.empty() ? std::string() : "; counted: " + what);
         else
             a.comment = std::to_string(gap_lost) + " samples lost before this sample (" + what + ")";
@@ -275,7 +283,7 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
 
     auto handle = [&](Block& b, bool queued) {
         // Called with b.count samples just read; `queued` false means they go nowhere (queue full).
-        const double f = source.info().center_hz;
+        const double f = src->info().center_hz;
         if (!queued) {
             gap_open = true;
             gap_lost += b.count;
@@ -290,12 +298,73 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
         center = f;
         gap_open = gap_unknown = false;
         gap_lost = gap_overflow = gap_dropped = 0;
+        gap_note.clear();
         enqueued += b.count;
         produced += b.count;
     };
 
+    std::uint64_t own_non_finite = 0;  // replaced here (a source that broke its contract)
+    const std::uint64_t source_non_finite0 = source.counters().non_finite;
+    std::uint64_t source_non_finite = 0;  // replaced by the sources before this one (after a reopen)
+    const auto tell = [&](const std::string& what) {
+        if (opt.on_event) opt.on_event(what);
+    };
+    // A failed live source: open it again with backoff. True when a new source is being read; the samples
+    // missed meanwhile are an unknown-count gap, and stream indices are unknown from here on.
+    const auto recover = [&](const std::string& why) -> bool {
+        if (!opt.reopen || !(opt.reopen_for_s > 0) || !info0.live) return false;
+        const auto t0 = clock::now();
+        const auto elapsed = [&] { return std::chrono::duration<double>(clock::now() - t0).count(); };
+        double delay = opt.reopen_first_delay_s;
+        tell("the source failed: " + why + "; reopening it (for up to " + format_number(opt.reopen_for_s) + " s)");
+        std::string last_error = why;
+        for (int attempt = 1;; ++attempt) {
+            // Wait out the delay in short steps so a stop request or a failed disk is seen at once.
+            const auto until =
+                clock::now() + std::chrono::duration_cast<clock::duration>(std::chrono::duration<double>(delay));
+            while (clock::now() < until) {
+                if ((stop && stop->load()) || writer_failed.load()) return false;
+                std::this_thread::sleep_for(
+                    std::min<clock::duration>(std::chrono::milliseconds(20), until - clock::now()));
+            }
+            try {
+                if (src) source_non_finite += src->counters().non_finite - (src_is_original ? source_non_finite0 : 0);
+                src = nullptr;  // reopen() closes it
+                src_is_original = false;
+                SampleSource& fresh = opt.reopen();
+                src = &fresh;
+                if (fresh.info().sample_rate_hz != rate)
+                    throw InputError("the reopened source runs at " + format_number(fresh.info().sample_rate_hz) +
+                                     " Hz, not the recording's " + format_number(rate) + " Hz");
+                const double out_s = elapsed();
+                ++rep.reopens;
+                rep.outage_s += out_s;
+                gap_open = gap_unknown = true;
+                stream_index_known = false;
+                gap_note = "the source failed (" + why + ") and was reopened after " +
+                           format_number(std::round(out_s * 1000) / 1000) + " s, about " +
+                           std::to_string(std::llround(out_s * rate)) + " samples at the stream rate";
+                tell("the source is back after " + format_number(std::round(out_s * 10) / 10) + " s (" +
+                     std::to_string(attempt) + (attempt == 1 ? " attempt" : " attempts") +
+                     "); recording goes on after an annotated gap");
+                return true;
+            } catch (const std::exception& e) {
+                last_error = e.what();
+            }
+            if (elapsed() + delay >= opt.reopen_for_s) {
+                rep.outage_s += elapsed();
+                tell("the source did not come back within " + format_number(opt.reopen_for_s) + " s: " + last_error);
+                return false;
+            }
+            delay = std::min(delay * 2, opt.reopen_max_delay_s);
+            tell("reopen attempt " + std::to_string(attempt) + " failed: " + last_error + "; next in " +
+                 format_number(delay) + " s");
+        }
+    };
+
     ReadResult r;
     std::size_t holding = SIZE_MAX;  // the free block the reader is filling
+    auto last_sample = clock::now();  // for the stall timeout
     try {
     while (produced < target) {
         if (stop && stop->load()) break;
@@ -312,17 +381,30 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
         if (writer_failed.load()) break;
         Block& b = holding == SIZE_MAX ? scratch : blocks[holding];
         const std::size_t want = static_cast<std::size_t>(std::min<std::uint64_t>(opt.block_samples, target - produced));
-        r = source.read(std::span<cf32>(b.samples.data(), want), opt.read_timeout_s);
+        try {
+            r = src->read(std::span<cf32>(b.samples.data(), want), opt.read_timeout_s);
+        } catch (const std::exception& e) {  // a source must not throw from read(); if one does, it has failed
+            r = ReadResult{ReadStatus::error, 0, 0, e.what()};
+        }
         if (r.status == ReadStatus::timeout) {
             ++rep.timeouts;
-            continue;
+            const double idle = std::chrono::duration<double>(clock::now() - last_sample).count();
+            if (!(info0.live && opt.stall_timeout_s > 0 && idle >= opt.stall_timeout_s)) continue;
+            r = ReadResult{ReadStatus::error, 0, 0,
+                           "no samples for " + format_number(std::round(idle * 10) / 10) + " s"};
         }
         if (r.status == ReadStatus::end) break;
         if (r.status == ReadStatus::error) {
+            if (recover(r.message)) {
+                last_sample = clock::now();
+                continue;
+            }
             rep.complete = false;
             rep.message = "the source failed: " + r.message;
+            if (!src) rep.message += " (and could not be reopened)";
             break;
         }
+        if (r.count > 0) last_sample = clock::now();
         if (r.status == ReadStatus::overflow) {
             ++rep.overflows;
             gap_open = true;
@@ -337,6 +419,15 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
         }
         if (r.count == 0) continue;
         b.count = std::min(r.count, want);
+        // Sources replace NaN/Inf themselves (SampleSource's contract); a sample that still is not finite is
+        // replaced here, so it can reach neither the file nor a measurement made from it.
+        for (std::size_t i = 0; i < b.count; ++i) {
+            cf32& z = b.samples[i];
+            if (!std::isfinite(z.real()) || !std::isfinite(z.imag())) {
+                z = {0.0f, 0.0f};
+                ++own_non_finite;
+            }
+        }
         if (holding == SIZE_MAX) {
             handle(b, false);
             continue;
@@ -349,7 +440,7 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
         holding = SIZE_MAX;
         q.to_writer.notify_one();
     }
-    } catch (const std::exception& e) {  // a source must not throw from read(); if one does, stop cleanly
+    } catch (const std::exception& e) {  // a failing reopen() or source accessor: stop cleanly
         rep.complete = false;
         rep.message = std::string("the source failed: ") + e.what();
     }
@@ -393,6 +484,11 @@ RecorderReport record(SampleSource& source, const RecorderOptions& opt, const st
     close_gap();
     rep.produced = produced;
     rep.clipped = clipped;
+    rep.non_finite = own_non_finite + source_non_finite +
+                     (src ? src->counters().non_finite - (src_is_original ? source_non_finite0 : 0) : 0);
+    if (rep.non_finite)
+        rep.warnings.push_back(std::to_string(rep.non_finite) +
+                               " NaN or infinite samples from the source were replaced by 0 (not recorded as such)");
     if (clipped)
         rep.warnings.push_back(std::to_string(clipped) + " sample components exceeded full scale and were clipped in " +
                                opt.datatype);

@@ -18,6 +18,7 @@
 #include <atomic>
 #include <cstddef>
 #include <cstdint>
+#include <functional>
 #include <memory>
 #include <optional>
 #include <string>
@@ -52,6 +53,21 @@ struct RecorderOptions {
     double read_timeout_s = 0.25;
     std::string description;           // core:description (default: the source's description)
     std::optional<Setup> setup;        // embedded as hetbench:setup when given
+
+    // A live source that fails (a stream error, a vanished device, or no samples for stall_timeout_s) is opened
+    // again through `reopen`, with a backoff from reopen_first_delay_s doubling up to reopen_max_delay_s, for at
+    // most reopen_for_s seconds. The samples missed meanwhile are one gap of unknown count and the stream goes on
+    // in a new capture. Without `reopen` (or with reopen_for_s = 0) a failure ends the recording early.
+    // reopen() closes the failed source and returns a new one, owned by the caller and valid until the next call
+    // or the end of record(); it throws (InputError) while the device is not back. After the first call the
+    // `source` given to record() is no longer used.
+    std::function<SampleSource&()> reopen;
+    double reopen_for_s = 30.0;
+    double reopen_first_delay_s = 0.1;
+    double reopen_max_delay_s = 2.0;
+    double stall_timeout_s = 0.0;  // live sources: this long without a sample is a failure (0: wait for ever)
+    // Told of every failure, reopen attempt and recovery as it happens (the command line prints them).
+    std::function<void(const std::string&)> on_event;
 };
 
 struct RecorderReport {
@@ -65,6 +81,9 @@ struct RecorderReport {
     std::uint64_t overflows = 0;      // overflow events from the source
     std::uint64_t timeouts = 0;
     std::uint64_t clipped = 0;        // ci16 components that saturated
+    std::uint64_t non_finite = 0;     // NaN/Inf samples replaced by 0 (by the source, or here if it did not)
+    std::uint64_t reopens = 0;        // times the source failed and was opened again
+    double outage_s = 0.0;            // wall time spent without a source while reopening
     std::size_t captures = 0;         // capture segments in the metadata
     bool complete = true;             // false when a source or disk error stopped the recording early
     std::string message;              // why it stopped early

@@ -267,7 +267,12 @@ std::unique_ptr<SampleSource> open_sigmf(const SourceSpec& spec, const std::stri
                          " but the source says format = \"" + spec.format + "\"; format is for raw files only: remove it");
 
     std::uint64_t size = 0;
-    const int fd = open_regular(paths.data, size);
+    int fd = -1;
+    try {
+        fd = open_regular(paths.data, size);
+    } catch (const InputError& e) {  // say whose data file it is: the name may come from core:dataset
+        throw InputError(std::string(e.what()) + " (the data file of " + paths.meta + ")");
+    }
     const std::uint64_t ss = meta.format.sample_bytes();
     std::vector<std::string>& warn = meta.warnings;
     if (meta.trailing_bytes > size) {
@@ -277,17 +282,22 @@ std::unique_ptr<SampleSource> open_sigmf(const SourceSpec& spec, const std::stri
     }
     const std::uint64_t data_end = size - meta.trailing_bytes;
 
-    // Each capture's samples start after all header bytes so far (non-conforming datasets).
+    // Each capture's samples start after all header bytes so far (non-conforming datasets). Offsets come from
+    // the metadata, so they saturate instead of wrapping: an index whose byte offset exceeds 64 bits lies past
+    // the end of any file, not back at its start.
+    const auto sat_add = [](std::uint64_t a, std::uint64_t b) { return a > UINT64_MAX - b ? UINT64_MAX : a + b; };
     std::vector<SampleFileReader::Segment> segs;
     std::uint64_t headers = 0;
+    std::string cut_at_start;  // the data ends before the first capture: said when nothing is left
     for (std::size_t i = 0; i < meta.captures.size(); ++i) {
         const SigmfCapture& c = meta.captures[i];
-        headers += c.header_bytes;
+        headers = sat_add(headers, c.header_bytes);
         SampleFileReader::Segment s;
-        s.byte_start = headers + c.sample_start * ss;
+        s.byte_start = sat_add(headers, c.sample_start > UINT64_MAX / ss ? UINT64_MAX : c.sample_start * ss);
         if (s.byte_start >= data_end) {
             warn.push_back(paths.data + ": the data ends before capture " + std::to_string(i) + " (core:sample_start " +
                            std::to_string(c.sample_start) + "); the recording is truncated there");
+            if (i == 0) cut_at_start = warn.back();
             break;
         }
         const std::uint64_t available = (data_end - s.byte_start) / ss;
@@ -313,6 +323,10 @@ std::unique_ptr<SampleSource> open_sigmf(const SourceSpec& spec, const std::stri
     if (meta.sample_count) {  // the recorder's own count: what the metadata was written for
         std::uint64_t total = 0;
         for (const auto& s : segs) total += s.samples;
+        if (total < *meta.sample_count)
+            warn.push_back(paths.data + ": holds " + std::to_string(total) + " samples but the metadata " +
+                           "(hetbench:sample_count) describes " + std::to_string(*meta.sample_count) +
+                           "; the recording is truncated there");
         if (total > *meta.sample_count) {
             warn.push_back(paths.data + ": holds " + std::to_string(total - *meta.sample_count) +
                            " samples beyond the " + std::to_string(*meta.sample_count) +
@@ -328,7 +342,7 @@ std::unique_ptr<SampleSource> open_sigmf(const SourceSpec& spec, const std::stri
     if (segs.empty()) {
         ::close(fd);
         throw InputError(paths.data + ": holds no " + datatype_name(meta.format) + " sample (" + std::to_string(size) +
-                         " bytes)");
+                         " bytes)" + (cut_at_start.empty() ? std::string() : "; " + cut_at_start));
     }
     auto r = std::make_unique<SampleFileReader>(spec, options, fd, meta.format, std::move(segs));
     r->info_.sample_rate_hz = rate;

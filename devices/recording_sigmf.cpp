@@ -25,6 +25,13 @@ using json = nlohmann::json;
 
 constexpr std::uintmax_t kMaxMetaBytes = 64u << 20;  // a metadata file is text; anything this big is not one
 
+// A library message without its "[json.exception.parse_error.101] " tag: the rest says where and what.
+std::string plain(const json::exception& e) {
+    const std::string w = e.what();
+    const auto p = w.rfind("] ", w.find(' '));
+    return w.rfind("[json.exception.", 0) == 0 && p != std::string::npos ? w.substr(p + 2) : w;
+}
+
 std::string show(const json& v) {
     std::string s = v.dump();
     if (s.size() > 60) s = s.substr(0, 57) + "...";
@@ -116,12 +123,12 @@ SigmfMeta parse_sigmf_meta(const std::string& text, const std::string& name) {
     try {
         root = json::parse(text);
     } catch (const json::exception& e) {  // parse errors, and numbers too large for a double
-        throw InputError(name + ": not valid JSON: " + e.what());
+        throw InputError(name + ": not valid JSON: " + plain(e));
     }
     try {
         return parse_meta(root, name);
     } catch (const json::exception& e) {  // a type check missed above: still bad input, never a crash
-        throw InputError(name + ": " + e.what());
+        throw InputError(name + ": " + plain(e));
     }
 }
 
@@ -308,7 +315,8 @@ nlohmann::json sigmf_meta_to_json(const SigmfMeta& m) {
 }
 
 void write_sigmf_meta(const SigmfMeta& m, const std::string& meta_path) {
-    const std::string text = sigmf_meta_to_json(m).dump(2) + "\n";
+    // Text that is not UTF-8 (a source's file name in another encoding) is written as U+FFFD: JSON must be UTF-8.
+    const std::string text = sigmf_meta_to_json(m).dump(2, ' ', false, json::error_handler_t::replace) + "\n";
     const std::string tmp = meta_path + ".tmp";
     const int fd = ::open(tmp.c_str(), O_WRONLY | O_CREAT | O_TRUNC | O_CLOEXEC, 0644);
     if (fd < 0) throw InputError(meta_path + ": cannot write the metadata (" + tmp + "): " + std::strerror(errno));

@@ -5,7 +5,10 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstring>
 #include <filesystem>
+#include <fstream>
+#include <optional>
 
 #include "devices/recording_reader.hpp"
 #include "dsp/errors.hpp"
@@ -29,6 +32,33 @@ std::string subtype_name(int format) {
             return std::string(b);
         }();
     }
+}
+
+// libsndfile reads a WAV whose data chunk is shorter than its header says up to the end of the file without a
+// word; the header's own length is compared with the file here so a cut-off recording is reported as such.
+// Returns the declared and the present data bytes when the data chunk is cut short (RIFF/WAVE only).
+std::optional<std::pair<std::uint64_t, std::uint64_t>> short_data_chunk(const std::string& path) {
+    std::ifstream in(path, std::ios::binary);
+    char head[12];
+    if (!in.read(head, 12) || std::memcmp(head, "RIFF", 4) != 0 || std::memcmp(head + 8, "WAVE", 4) != 0)
+        return std::nullopt;
+    in.seekg(0, std::ios::end);
+    const auto size = static_cast<std::uint64_t>(in.tellg());
+    std::uint64_t pos = 12;
+    for (int i = 0; i < 1000 && pos + 8 <= size; ++i) {  // bounded: a chunk list is short
+        in.seekg(static_cast<std::streamoff>(pos));
+        unsigned char ch[8];
+        if (!in.read(reinterpret_cast<char*>(ch), 8)) return std::nullopt;
+        const std::uint64_t len = ch[4] | (ch[5] << 8) | (ch[6] << 16) | (std::uint64_t(ch[7]) << 24);
+        pos += 8;
+        if (std::memcmp(ch, "data", 4) == 0) {
+            if (len == 0 || len == 0xffffffffu) return std::nullopt;  // "unknown length" (a stream being written)
+            if (len > size - pos) return std::make_pair(len, size - pos);
+            return std::nullopt;
+        }
+        pos += len + (len & 1);  // chunks are padded to an even length
+    }
+    return std::nullopt;
 }
 
 class WavReader final : public detail::RecordingReader {
@@ -59,6 +89,10 @@ public:
         buffer_.resize(chunk * static_cast<std::size_t>(channels_));
         info_.sample_rate_hz = detail::pick_rate(sfi.samplerate, spec, path);
         std::vector<std::string> warnings;
+        if (const auto cut = short_data_chunk(path))
+            warnings.push_back(path + ": the header says the data chunk holds " + std::to_string(cut->first) +
+                               " bytes but the file has only " + std::to_string(cut->second) + "; reading the " +
+                               std::to_string(sfi.frames) + " whole frames there (a truncated file?)");
         info_.center_hz = spec.frequency_hz.value_or(0.0);
         info_.total_samples = static_cast<std::uint64_t>(sfi.frames);
         info_.description = std::filesystem::path(path).filename().string();

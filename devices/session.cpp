@@ -11,6 +11,7 @@
 #include <sstream>
 #include <toml.hpp>
 
+#include "devices/toml_reader.hpp"
 #include "dsp/filter_presets.hpp"
 #include "dsp/units.hpp"
 
@@ -418,6 +419,7 @@ Setup parse_session(std::string_view text, const std::string& name) {
     Problems pr;
     pr.file = name;
     toml::value root;
+    toml_reader::require_parsable(text, name);  // before toml11 sees it (devices/toml_reader.hpp says why)
     try {
         std::istringstream in{std::string(text)};
         root = toml::parse(in, name);

@@ -2,10 +2,12 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <limits>
 #include <sstream>
 
 #include "devices/session.hpp"
+#include "devices/utf8.hpp"
 #include "dsp/errors.hpp"
 #include "dsp/units.hpp"
 
@@ -49,7 +51,62 @@ std::string describe(const toml::value& v) {
     }
 }
 
+namespace {
+[[noreturn]] void refuse_at(std::string_view text, std::size_t at, const std::string& name, const std::string& what,
+                            const std::string& why) {
+    const std::string_view before = text.substr(0, at);
+    const auto line = 1 + std::count(before.begin(), before.end(), '\n');
+    const auto line_start = before.rfind('\n');
+    const std::size_t column = at - (line_start == std::string_view::npos ? 0 : line_start + 1) + 1;
+    throw InputError(name + ":" + std::to_string(line) + ": not valid TOML: " + what + " at column " +
+                     std::to_string(column) + " " + why);
+}
+
+// The deepest nesting of [ and { in values, skipping strings and comments (a lexer's view, no more: what is
+// not TOML is left to the parser). Table headers ([a], [[a]]) nest at most 2.
+void check_nesting(std::string_view t, const std::string& name) {
+    int depth = 0;
+    for (std::size_t i = 0; i < t.size(); ++i) {
+        const char c = t[i];
+        if (c == '#') {
+            while (i < t.size() && t[i] != '\n') ++i;
+        } else if (c == '"' || c == '\'') {
+            const bool multi = t.compare(i, 3, std::string(3, c)) == 0;
+            const std::string_view close =
+                multi ? std::string_view(c == '"' ? "\"\"\"" : "\'\'\'") : std::string_view(c == '"' ? "\"" : "'");
+            std::size_t j = i + close.size();
+            for (; j < t.size(); ++j) {
+                if (c == '"' && t[j] == '\\') {  // basic strings: an escape hides the next character
+                    ++j;
+                    continue;
+                }
+                if (!multi && t[j] == '\n') break;
+                if (t.compare(j, close.size(), close) == 0) break;
+            }
+            i = j + close.size() - 1;
+        } else if (c == '[' || c == '{') {
+            if (++depth > kMaxTomlNesting)
+                refuse_at(t, i, name, "the bracket",
+                          "nests arrays and inline tables deeper than " + std::to_string(kMaxTomlNesting));
+        } else if (c == ']' || c == '}') {
+            if (depth > 0) --depth;
+        }
+    }
+}
+}  // namespace
+
+void require_parsable(std::string_view text, const std::string& name) {
+    if (const auto bad = first_invalid_utf8(text)) {
+        char hex[8];
+        std::snprintf(hex, sizeof hex, "0x%02X", static_cast<unsigned char>(text[*bad]));
+        refuse_at(text, *bad, name, std::string("the byte ") + hex,
+                  "is not UTF-8 (a TOML file must be UTF-8 text; save it as UTF-8)");
+    }
+    check_nesting(text, name);
+}
+
 toml::value parse_text(std::string_view text, const std::string& name) {
+    require_parsable(text, name);
     try {
         std::istringstream in{std::string(text)};
         return toml::parse(in, name);

@@ -31,6 +31,14 @@ struct Problems {
 int line_of(const toml::value& v);
 std::string describe(const toml::value& v);  // "-3 (an integer)", "\"x\" (a string)", ...
 
+// Checks what toml11 3.7 cannot be trusted with, before it sees the text (both found by fuzzing, see
+// tests/fuzz/corpus/*/crash-*): TOML documents must be UTF-8 (TOML v1.0.0, "Spec"), and toml11 reads past its
+// buffer on a byte that is not inside a literal string; and it parses nested arrays and inline tables by
+// recursion, so "x = [[[[...": deep enough overflows the stack. Throws InputError naming the file, line and column
+// of the first byte that is not UTF-8, or of the bracket that nests deeper than kMaxTomlNesting.
+inline constexpr int kMaxTomlNesting = 64;
+void require_parsable(std::string_view text, const std::string& name);
+
 // Parses TOML text; a syntax error becomes an InputError naming the file.
 toml::value parse_text(std::string_view text, const std::string& name);
 

@@ -23,6 +23,8 @@ struct RecordArgs {
     std::optional<double> gain_db;
     bool realtime = false;
     double flush_s = 1.0;
+    double reopen_for_s = 30.0;
+    double stall_s = 10.0;
 };
 
 double frequency_arg(const std::string& text, const char* option) {
@@ -64,7 +66,7 @@ void run_record(const RecordArgs& a, int& rc) {
     std::unique_ptr<SampleSource> src;
     if (spec.kind == SourceKind::recording) src = open_recording(spec, setup, RecordingOptions{a.realtime, 65536});
     else src = open_soapy(spec, setup);
-    const StreamInfo& info = src->info();
+    const StreamInfo info = src->info();  // a copy: a reopen replaces the source
     std::cout << "source: " << info.description << " (" << info.hardware << "), centre "
               << format_frequency(info.center_hz) << ", " << format_frequency(info.sample_rate_hz) << " sample rate\n";
     if (const RecordingDetails* d = recording_details(*src))
@@ -76,6 +78,17 @@ void run_record(const RecordArgs& a, int& rc) {
     ro.duration_s = a.duration_s;
     ro.flush_interval_s = a.flush_s;
     if (have_setup) ro.setup = setup;
+    if (spec.kind != SourceKind::recording) {
+        // A device that fails or vanishes is closed and opened again with the same arguments, with backoff.
+        ro.reopen_for_s = a.reopen_for_s;
+        ro.stall_timeout_s = a.stall_s;
+        ro.reopen = [&]() -> SampleSource& {
+            src.reset();
+            src = open_soapy(spec, setup);
+            return *src;
+        };
+        ro.on_event = [](const std::string& what) { std::cerr << "hetbench: " << what << std::endl; };
+    }
 
     g_stop.store(false);
     auto old_int = std::signal(SIGINT, on_stop_signal);
@@ -101,6 +114,11 @@ void run_record(const RecordArgs& a, int& rc) {
               << "  gaps:     " << r.gaps << " annotated";
     if (r.unknown_gaps) std::cout << " (" << r.unknown_gaps << " with an unknown count)";
     std::cout << ", " << r.overflows << " overflows, " << r.timeouts << " timeouts\n";
+    if (r.reopens)
+        std::cout << "  reopened: " << r.reopens << (r.reopens == 1 ? " time, " : " times, ")
+                  << format_number(std::round(r.outage_s * 10) / 10) << " s without the source (" << r.unknown_gaps
+                  << " gaps of unknown length)\n";
+    if (r.non_finite) std::cout << "  replaced: " << r.non_finite << " NaN/Inf samples by 0\n";
     for (const std::string& w : r.warnings) std::cerr << "hetbench: warning: " << w << "\n";
     if (!r.complete) {
         std::cerr << "hetbench: error: " << r.message << " (the recording is valid up to sample " << r.written << ")\n";
@@ -131,6 +149,15 @@ void register_record(CLI::App& app, int& rc) {
     cmd->add_flag("--realtime", a->realtime, "Play a recording source at its real rate (default: as fast as possible)");
     cmd->add_option("--flush-interval", a->flush_s, "Seconds between data flushes and metadata rewrites")
         ->check(CLI::PositiveNumber);
+    cmd->add_option(
+           "--reopen-for", a->reopen_for_s,
+           "Devices: seconds to keep reopening a device that failed or vanished (0: stop at the first failure)")
+        ->capture_default_str()
+        ->check(CLI::NonNegativeNumber);
+    cmd->add_option("--stall-timeout", a->stall_s,
+                    "Devices: seconds without a sample that count as a failure (0: wait for ever)")
+        ->capture_default_str()
+        ->check(CLI::NonNegativeNumber);
     cmd->callback([a, &rc] { run_record(*a, rc); });
 }
 

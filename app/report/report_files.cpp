@@ -25,7 +25,8 @@ ReportPaths write_plan_reports(const PlanReport& r, const std::filesystem::path&
     std::filesystem::create_directories(dir, ec);
     if (ec) throw InputError(dir.string() + ": cannot create the report folder (" + ec.message() + ")");
     ReportPaths paths{dir / (stem + ".json"), dir / (stem + ".csv"), dir / (stem + ".html"), dir / (stem + ".png")};
-    write_text(paths.json, plan_report_json(r).dump(2) + "\n");
+    // Text that is not UTF-8 (a file name in another encoding) is written as U+FFFD: the JSON stays valid.
+    write_text(paths.json, plan_report_json(r).dump(2, ' ', false, nlohmann::json::error_handler_t::replace) + "\n");
     write_text(paths.csv, plan_report_csv(r));
     write_text(paths.html, plan_report_html(r));
     const std::vector<std::uint8_t> png = plan_report_png(r);

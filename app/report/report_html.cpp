@@ -5,6 +5,7 @@
 #include <sstream>
 
 #include "devices/setup_json.hpp"
+#include "devices/utf8.hpp"
 #include "dsp/units.hpp"
 #include "report/plan_report.hpp"
 #include "report/plot.hpp"
@@ -122,9 +123,24 @@ pre { background: #f1eee6; padding: 8px; overflow: auto; font-size: 12px; }
 }  // namespace
 
 std::string html_escape(std::string_view text) {
+    // Markup characters become references; bytes that are not UTF-8 (a file name in another encoding) and control
+    // characters (not allowed in HTML text) become U+FFFD, so the page is well-formed whatever the input.
+    static constexpr std::string_view kReplacement = "\xEF\xBF\xBD";
     std::string out;
     out.reserve(text.size());
-    for (char ch : text) {
+    for (std::size_t i = 0; i < text.size(); ++i) {
+        const char ch = text[i];
+        const auto c = static_cast<unsigned char>(ch);
+        if (c >= 0x80) {
+            const std::size_t n = utf8_sequence_length(text, i);
+            if (n == 0) {
+                out += kReplacement;
+            } else {
+                out.append(text.substr(i, n));
+                i += n - 1;
+            }
+            continue;
+        }
         switch (ch) {
             case '&':
                 out += "&amp;";
@@ -141,8 +157,16 @@ std::string html_escape(std::string_view text) {
             case '\'':
                 out += "&#39;";
                 break;
-            default:
+            case '\t':
+            case '\n':
+            case '\r':
                 out += ch;
+                break;
+            default:
+                if (c < 0x20 || c == 0x7f)
+                    out += kReplacement;
+                else
+                    out += ch;
         }
     }
     return out;
@@ -236,7 +260,8 @@ std::string plan_report_html(const PlanReport& r) {
     }
 
     o << "<h2>Setup</h2>\n<details><summary>Full setup (JSON)</summary><pre>"
-      << html_escape(setup_to_json(r.setup).dump(2)) << "</pre></details>\n";
+      << html_escape(setup_to_json(r.setup).dump(2, ' ', false, nlohmann::json::error_handler_t::replace))
+      << "</pre></details>\n";
     o << "</body></html>\n";
     return o.str();
 }
