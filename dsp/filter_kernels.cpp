@@ -89,28 +89,29 @@ void fir_lanes_complex(const float* __restrict gr, const float* __restrict gi, s
     }
 }
 
-// Four outputs y[p_k] = Σ_{j<padded} g[j]·x[p_k + j], taps in lanes (padded a multiple of W).
+// Eight outputs y[p_k] = Σ_{j<padded} g[j]·x[p_k + j], taps in lanes (padded a multiple of W): each tap vector
+// is loaded once for the eight, and the sixteen sums are reduced together by a tree of lane shuffles.
 template <bool Real>
-void fir_dot4(const float* __restrict gr, const float* __restrict gi, std::size_t padded, const float* xr,
-              const float* xi, const std::size_t p[4], float out[8]) {
-    vf acc[8] = {};  // re of the four outputs, then im
+void fir_dot8(const float* __restrict gr, const float* __restrict gi, std::size_t padded, const float* xr,
+              const float* xi, const std::size_t p[8], float out[16]) {
+    vf acc[16] = {};  // re of the eight outputs, then im
     for (std::size_t j = 0; j < padded; j += W) {
         const vf hr = simd::load(gr + j);
         if constexpr (Real) {
-            for (int k = 0; k < 4; ++k) {
+            for (int k = 0; k < 8; ++k) {
                 acc[k] += hr * simd::load(xr + p[k] + j);
-                acc[4 + k] += hr * simd::load(xi + p[k] + j);
+                acc[8 + k] += hr * simd::load(xi + p[k] + j);
             }
         } else {
             const vf hi = simd::load(gi + j);
-            for (int k = 0; k < 4; ++k) {
+            for (int k = 0; k < 8; ++k) {
                 const vf a = simd::load(xr + p[k] + j), b = simd::load(xi + p[k] + j);
                 acc[k] += hr * a - hi * b;
-                acc[4 + k] += hr * b + hi * a;
+                acc[8 + k] += hr * b + hi * a;
             }
         }
     }
-    simd::reduce8(acc, out);
+    simd::reduce16(acc, out);
 }
 
 }  // namespace
@@ -343,8 +344,19 @@ void FirKernel::reset() {
 }
 
 std::size_t FirKernel::process(const cf32* in, std::size_t n, cf32* out, int decimation, int& phase) {
+    deinterleave(in, n, xr.data() + padded - 1, xi.data() + padded - 1);
+    return run(n, out, decimation, phase);
+}
+
+std::size_t FirKernel::process_planar(const float* re, const float* im, std::size_t n, cf32* out, int decimation,
+                                      int& phase) {
+    std::memcpy(xr.data() + padded - 1, re, n * sizeof(float));
+    std::memcpy(xi.data() + padded - 1, im, n * sizeof(float));
+    return run(n, out, decimation, phase);
+}
+
+std::size_t FirKernel::run(std::size_t n, cf32* out, int decimation, int& phase) {
     const std::size_t hist = padded - 1;
-    deinterleave(in, n, xr.data() + hist, xi.data() + hist);
     std::size_t produced = 0;
     if (decimation <= 1) {
         // Skip the leading zero taps of the padding: y[i] = Σ_{j ≥ padded − taps} g[j]·x[i + j].
@@ -361,22 +373,22 @@ std::size_t FirKernel::process(const cf32* in, std::size_t n, cf32* out, int dec
         const auto D = static_cast<std::size_t>(decimation);
         std::size_t first = phase == 0 ? 0 : D - static_cast<std::size_t>(phase);
         float* o = reinterpret_cast<float*>(out);
-        for (std::size_t i = first; i < n; i += 4 * D) {
-            std::size_t p[4];
+        for (std::size_t i = first; i < n; i += 8 * D) {
+            std::size_t p[8];
             std::size_t k_valid = 0;
-            for (std::size_t k = 0; k < 4; ++k) {
+            for (std::size_t k = 0; k < 8; ++k) {
                 const std::size_t pos = i + k * D;
                 p[k] = pos < n ? pos : i;  // past the block: recompute the first one, not stored
                 k_valid += pos < n;
             }
-            alignas(32) float r[8];
+            alignas(64) float r[16];
             if (real_taps)
-                fir_dot4<true>(hr.data(), hi.data(), padded, xr.data(), xi.data(), p, r);
+                fir_dot8<true>(hr.data(), hi.data(), padded, xr.data(), xi.data(), p, r);
             else
-                fir_dot4<false>(hr.data(), hi.data(), padded, xr.data(), xi.data(), p, r);
+                fir_dot8<false>(hr.data(), hi.data(), padded, xr.data(), xi.data(), p, r);
             for (std::size_t k = 0; k < k_valid; ++k) {
                 o[2 * (produced + k)] = r[k];
-                o[2 * (produced + k) + 1] = r[4 + k];
+                o[2 * (produced + k) + 1] = r[8 + k];
             }
             produced += k_valid;
         }

@@ -56,7 +56,7 @@ struct BiquadCascadeKernel {
 // part exactly 0, as for a filter centred on its window) take a path with half the arithmetic.
 //   decimation 1: outputs in vector lanes (each tap is one broadcast and one multiply-add per lane group: the
 //                 loads of the input are shared by all taps' products in registers)
-//   decimation > 1: taps in vector lanes, four kept outputs at a time sharing the tap loads, tree reduction
+//   decimation > 1: taps in vector lanes, eight kept outputs at a time sharing the tap loads, tree reduction
 struct FirKernel {
     std::size_t taps = 0;       // real length
     std::size_t padded = 0;     // length rounded up to the vector width; the extra taps are zero
@@ -71,7 +71,12 @@ struct FirKernel {
     // advances modulo `decimation` with every input. Returns the number of outputs written. `in` and `out` may
     // be the same buffer.
     std::size_t process(const cf32* in, std::size_t n, cf32* out, int decimation, int& phase);
+    // The same from planar input (re, im), e.g. straight from a kernel that writes planar samples.
+    std::size_t process_planar(const float* re, const float* im, std::size_t n, cf32* out, int decimation, int& phase);
     void reset();
+
+    // internal: filters the n samples already in (xr, xi) after the history
+    std::size_t run(std::size_t n, cf32* out, int decimation, int& phase);
 };
 
 // One phase of a two-phase (×2 or ÷2) polyphase FIR with real taps: either a single tap (a delay and a gain: the

@@ -99,6 +99,35 @@ inline vf fold(vf a, vf b) {
     return __builtin_shuffle(a, b, lo) + __builtin_shuffle(a, b, hi);
 }
 
+namespace detail {
+template <int S, int N>
+inline void fold_tree(vf* v) {
+    if constexpr (S > 1 && N > 1) {
+        for (int i = 0; i < N / 2; ++i) v[i] = fold<S>(v[2 * i], v[2 * i + 1]);
+        fold_tree<S / 2, N / 2>(v);
+    }
+}
+}  // namespace detail
+
+// The sixteen horizontal sums of sixteen vectors, in order (out[k] = Σ lanes of v[k]); v is overwritten.
+inline void reduce16(vf v[16], float out[16]) {
+    detail::fold_tree<kWidth, 16>(v);
+    // Now 16 sums in 16/W... vectors when W ≥ 16 has folded to one vector; else 16/W vectors of single lanes.
+    constexpr int vecs = kWidth >= 16 ? 1 : 16 / kWidth;
+    constexpr int per = kWidth >= 16 ? kWidth / 16 : 1;  // lanes per sum left (W > 16 only)
+    for (int q = 0; q < vecs; ++q) {
+        if constexpr (per == 1) {
+            store(out + q * kWidth, v[q]);
+        } else {
+            for (int k = 0; k < kWidth / per; ++k) {
+                float t = 0.0f;
+                for (int l = 0; l < per; ++l) t += v[q][k * per + l];
+                out[q * (kWidth / per) + k] = t;
+            }
+        }
+    }
+}
+
 // The eight horizontal sums of eight vectors, in order (out[k] = Σ lanes of v[k]).
 inline void reduce8(const vf v[8], float out[8]) {
     if constexpr (kWidth == 4) {

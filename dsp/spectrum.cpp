@@ -2,13 +2,59 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstring>
 #include <string>
 
 #include "dsp/errors.hpp"
+#include "dsp/simd.hpp"
 #include "dsp/units.hpp"
 #include "dsp/window.hpp"
 
 namespace hb {
+namespace {
+
+using simd::vf;
+constexpr std::size_t W = static_cast<std::size_t>(simd::kWidth);
+typedef float vh __attribute__((vector_size(simd::kWidth * 2)));   // half a vf
+typedef double vd __attribute__((vector_size(simd::kWidth * 4)));  // W/2 doubles
+
+// acc[k] = op(acc[k], |out[k]|²·scale) for k < cnt: the power in float (as std::norm), scaled and accumulated in
+// double, on whole vectors.
+template <class Op>
+void update_bins(const std::complex<float>* out, std::size_t cnt, double* acc, double scale, Op op) {
+    const float* o = reinterpret_cast<const float*>(out);
+    const vd sc = vd{} + scale;
+    std::size_t k = 0;
+    for (; k + W <= cnt; k += W) {
+        vf re, im;
+        simd::load_deinterleaved(o + 2 * k, re, im);
+        const vf p = re * re + im * im;
+        for (std::size_t h = 0; h < 2; ++h) {
+            vh ph;
+            std::memcpy(&ph, reinterpret_cast<const char*>(&p) + h * sizeof(vh), sizeof ph);
+            vd a;
+            std::memcpy(&a, acc + k + h * W / 2, sizeof a);
+            a = op(a, __builtin_convertvector(ph, vd) * sc);
+            std::memcpy(acc + k + h * W / 2, &a, sizeof a);
+        }
+    }
+    for (; k < cnt; ++k) {
+        const float p = o[2 * k] * o[2 * k] + o[2 * k + 1] * o[2 * k + 1];
+        acc[k] = op(acc[k], static_cast<double>(p) * scale);
+    }
+}
+
+// dst[i] = src[i]·w2[i] over 2n floats (interleaved complex times a window stored twice per sample).
+void window_into(const std::complex<float>* src, const float* w2, std::size_t n, std::complex<float>* dst) {
+    const float* a = reinterpret_cast<const float*>(src);
+    float* d = reinterpret_cast<float*>(dst);
+    const std::size_t m = 2 * n;
+    std::size_t i = 0;
+    for (; i + W <= m; i += W) simd::store(d + i, simd::load(a + i) * simd::load(w2 + i));
+    for (; i < m; ++i) d[i] = a[i] * w2[i];
+}
+
+}  // namespace
 
 double Spectrum::level_db(double p) const {
     return db_from_power(p) + unit_offset_db();
@@ -45,9 +91,12 @@ Welch Welch::make(const AnalyzerSpec& spec, double center_hz, double sample_rate
     wl.n_ = n;
     wl.hop_ = std::max(1, static_cast<int>(std::lround(n * (1.0 - spec.overlap))));
     const std::vector<double> w = make_window(spec.window, static_cast<std::size_t>(n), spec.kaiser_beta);
-    wl.window_.assign(w.begin(), w.end());
+    // The window as floats, each value twice (re and im of a sample take the same factor).
+    wl.window_.resize(2 * w.size());
     double s1 = 0.0, s2 = 0.0;
-    for (float v : wl.window_) {
+    for (std::size_t i = 0; i < w.size(); ++i) {
+        const float v = static_cast<float>(w[i]);
+        wl.window_[2 * i] = wl.window_[2 * i + 1] = v;
         s1 += v;
         s2 += static_cast<double>(v) * v;
     }
@@ -93,8 +142,8 @@ void Welch::frame() {
     // Window the last n samples, oldest first: ring_[pos_..n) then ring_[0..pos_).
     std::complex<float>* in = fft_.in();
     const std::size_t first = n - pos_;
-    for (std::size_t i = 0; i < first; ++i) in[i] = ring_[pos_ + i] * window_[i];
-    for (std::size_t i = 0; i < pos_; ++i) in[first + i] = ring_[i] * window_[first + i];
+    window_into(ring_.data() + pos_, window_.data(), first, in);
+    window_into(ring_.data(), window_.data() + 2 * first, pos_, in + first);
     fft_.execute();
 
     // FFT order k → centred index (k + N/2) mod N.
@@ -102,33 +151,35 @@ void Welch::frame() {
     double* acc = acc_.data();
     const double scale = scale_;
     const bool first_frame = acc_frames_ == 0;
+    // Written for scalars and double vectors alike.
     auto each_bin = [&](auto&& update) {
-        for (std::size_t k = 0; k < half; ++k) update(acc[half + k], std::norm(out[k]) * scale);
-        for (std::size_t k = half; k < n; ++k) update(acc[k - half], std::norm(out[k]) * scale);
+        update_bins(out, half, acc + half, scale, update);
+        update_bins(out + half, n - half, acc, scale, update);
     };
+    const auto set = [](auto, auto p) { return p; };
     switch (spec_.averaging) {
         case Averaging::rms:
-            each_bin([](double& a, double p) { a += p; });
+            each_bin([](auto a, auto p) { return a + p; });
             break;
         case Averaging::exponential: {
             const double alpha = 1.0 / spec_.averages;
             if (first_frame)
-                each_bin([](double& a, double p) { a = p; });
+                each_bin(set);
             else
-                each_bin([alpha](double& a, double p) { a += alpha * (p - a); });
+                each_bin([alpha](auto a, auto p) { return a + alpha * (p - a); });
             break;
         }
         case Averaging::max_hold:
             if (first_frame)
-                each_bin([](double& a, double p) { a = p; });
+                each_bin(set);
             else
-                each_bin([](double& a, double p) { a = std::max(a, p); });
+                each_bin([](auto a, auto p) { return a < p ? p : a; });
             break;
         case Averaging::min_hold:
             if (first_frame)
-                each_bin([](double& a, double p) { a = p; });
+                each_bin(set);
             else
-                each_bin([](double& a, double p) { a = std::min(a, p); });
+                each_bin([](auto a, auto p) { return p < a ? p : a; });
             break;
     }
     ++acc_frames_;

@@ -19,5 +19,6 @@ void register_plan(CLI::App& app, int& rc);
 void register_devices(CLI::App& app, int& rc);
 void register_record(CLI::App& app, int& rc);
 void register_filter(CLI::App& app, int& rc);
+void register_bench(CLI::App& app, int& rc);
 
 }  // namespace hb::cli
