@@ -353,8 +353,8 @@ TuningAnalysis analyze_tuning_range(const FrequencyPlan& p, const PlanModel& mod
     return t;
 }
 
-PlanReport analyze_plan(const FrequencyPlan& p, const PlanModel& model) {
-    PlanReport r;
+PlanAnalysis analyze_plan(const FrequencyPlan& p, const PlanModel& model) {
+    PlanAnalysis r;
     r.plan = p;
     ProductQuery pq;
     pq.lo_hz = p.lo_hz;

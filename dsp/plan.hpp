@@ -3,7 +3,7 @@
 //
 //   FrequencyPlan plan = frequency_plan(setup);             // throws InputError on a bad plan
 //   PlanModel model{default_spur_table(plan.max_order, plan.max_order, -10.0)};
-//   PlanReport report = analyze_plan(plan, model);          // products, responses, per-channel spurs
+//   PlanAnalysis report = analyze_plan(plan, model);          // products, responses, per-channel spurs
 #pragma once
 
 #include <functional>
@@ -153,13 +153,13 @@ TuningAnalysis analyze_tuning_range(const FrequencyPlan& p, const PlanModel& mod
 
 // ---- One plan, everything -------------------------------------------------------------------------------
 
-struct PlanReport {
+struct PlanAnalysis {
     FrequencyPlan plan;
     std::vector<Product> products;    // of the wanted signal, levels filled when the model has a table
     std::vector<Response> responses;  // of the wanted channel's tuning
     TuningAnalysis tuning;
 };
 
-PlanReport analyze_plan(const FrequencyPlan& p, const PlanModel& model);
+PlanAnalysis analyze_plan(const FrequencyPlan& p, const PlanModel& model);
 
 }  // namespace hb

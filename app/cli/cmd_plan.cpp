@@ -95,7 +95,7 @@ std::string mn_text(int m, int n) {
     return std::to_string(m) + "x" + std::to_string(std::abs(n));
 }
 
-void print_text(std::ostream& o, const Setup& s, const PlanReport& r, const PlanModel& model, const FreqUnit& u,
+void print_text(std::ostream& o, const Setup& s, const PlanAnalysis& r, const PlanModel& model, const FreqUnit& u,
                 const std::string& model_note) {
     const FrequencyPlan& p = r.plan;
     const PlanLimits& lim = s.plan.limits;
@@ -236,7 +236,7 @@ nlohmann::json spur_json(const ChannelSpur& sp, const PlanLimits& lim) {
             {"limit_dbc", num(spur_limit_dbc(lim, sp))}};
 }
 
-nlohmann::json to_json(const Setup& s, const PlanReport& r, const PlanModel& model, const std::string& model_note) {
+nlohmann::json to_json(const Setup& s, const PlanAnalysis& r, const PlanModel& model, const std::string& model_note) {
     const FrequencyPlan& p = r.plan;
     const PlanLimits& lim = s.plan.limits;
     nlohmann::json j;
@@ -362,7 +362,7 @@ struct CsvFile {
     }
 };
 
-void write_csv(const std::string& dir, const PlanReport& r, const PlanModel& model, const PlanLimits& lim) {
+void write_csv(const std::string& dir, const PlanAnalysis& r, const PlanModel& model, const PlanLimits& lim) {
     std::error_code ec;
     std::filesystem::create_directories(dir, ec);
     if (ec || !std::filesystem::is_directory(dir))
@@ -440,7 +440,7 @@ void run(const Options& opt) {
     const PlanModel& model = bench.plan;
     const std::string& model_note = bench.note;
 
-    const PlanReport report = analyze_plan(plan, model);
+    const PlanAnalysis report = analyze_plan(plan, model);
     if (!opt.csv_dir.empty()) write_csv(opt.csv_dir, report, model, s.plan.limits);
     if (opt.json)
         std::cout << to_json(s, report, model, model_note).dump(1) << "\n";

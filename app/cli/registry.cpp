@@ -11,6 +11,8 @@ void register_all(CLI::App& app, int& rc) {
     register_record(app, rc);
     register_filter(app, rc);
     register_bench(app, rc);
+    register_synth(app, rc);
+    register_verify(app, rc);
 }
 
 }  // namespace hb::cli

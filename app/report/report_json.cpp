@@ -130,6 +130,7 @@ nlohmann::json plan_report_json(const PlanReport& r) {
          "(chi-square with Welch's equivalent degrees of freedom, or the order statistics for holds), "
          "second pass without bins above the 99.9 % noise quantile"},
     };
+    if (r.run) j["run"] = *r.run;
     j["setup"] = setup_to_json(r.setup);
     return j;
 }
