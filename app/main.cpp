@@ -1,8 +1,12 @@
 // hetbench: a receiver test bench. Entry point: parses the command line and runs one command.
+#include <cstdlib>
 #include <iostream>
+#include <string>
+#include <vector>
 
 #include "cli/commands.hpp"
 #include "dsp/errors.hpp"
+#include "gui/gui.hpp"
 
 int main(int argc, char** argv) {
     CLI::App app{"hetbench " HETBENCH_VERSION
@@ -12,6 +16,17 @@ int main(int argc, char** argv) {
     app.fallthrough(false);
     int rc = hb::cli::kExitOk;
     hb::cli::register_all(app, rc);
+#ifdef HETBENCH_HAS_GUI
+    // No arguments on a display: the bench window on the bundled demo session ("hetbench gui").
+    std::vector<char*> gui_argv;
+    static char gui_word[] = "gui";
+    if (argc == 1 && std::getenv("DISPLAY") && *std::getenv("DISPLAY") &&
+        !hb::gui::find_demo_session(argv[0]).empty()) {
+        gui_argv = {argv[0], gui_word, nullptr};
+        argc = 2;
+        argv = gui_argv.data();
+    }
+#endif
     // "hetbench nosuch --help" must fail, not print the main help: callers probe commands that way.
     if (argc > 1 && argv[1][0] != '-') {
         bool known = false;

@@ -19,6 +19,7 @@ void register_plan(CLI::App& app, int& rc);
 void register_devices(CLI::App& app, int& rc);
 void register_record(CLI::App& app, int& rc);
 void register_filter(CLI::App& app, int& rc);
+void register_gui(CLI::App& app, int& rc);
 void register_bench(CLI::App& app, int& rc);
 void register_synth(CLI::App& app, int& rc);
 void register_verify(CLI::App& app, int& rc);

@@ -10,6 +10,7 @@ void register_all(CLI::App& app, int& rc) {
     register_devices(app, rc);
     register_record(app, rc);
     register_filter(app, rc);
+    register_gui(app, rc);
     register_bench(app, rc);
     register_synth(app, rc);
     register_verify(app, rc);
