@@ -523,7 +523,7 @@ int run_gui(const GuiOptions& o) {
     glfwWindowHint(GLFW_OPENGL_PROFILE, GLFW_OPENGL_CORE_PROFILE);
     glfwWindowHint(GLFW_OPENGL_FORWARD_COMPAT, GLFW_TRUE);
     glfwWindowHint(GLFW_RESIZABLE, GLFW_TRUE);
-    const std::string title = "hetbench: " + b.setup.bench.name;
+    std::string title = "hetbench: " + b.setup.bench.name;
     GLFWwindow* win = glfwCreateWindow(o.width, o.height, title.c_str(), nullptr, nullptr);
     if (!win) {
         std::cerr << "hetbench gui: cannot create an OpenGL 3.3 window: " << glfw_error << "\n";
@@ -707,7 +707,11 @@ int run_gui(const GuiOptions& o) {
         }
         glfwSwapBuffers(win);
 
-        // ---- after the frame: the probe, the edits ----
+        // ---- after the frame: the title, the probe, the edits ----
+        if (const std::string t = "hetbench: " + b.applied.bench.name; t != title) {
+            title = t;
+            glfwSetWindowTitle(win, title.c_str());
+        }
         if (ui.want_replay || (ui.probe != sent_probe && b.pipe && b.pipe->status().finished)) {
             // The source has ended (a recording without loop): run it again, at the probe now chosen.
             start_pipeline(b, ui.probe);
