@@ -36,13 +36,20 @@ int line_of(const toml::value& v) {
 
 std::string describe(const toml::value& v) {
     switch (v.type()) {
-        case toml::value_t::boolean: return v.as_boolean() ? "true (a boolean)" : "false (a boolean)";
-        case toml::value_t::integer: return std::to_string(v.as_integer()) + " (an integer)";
-        case toml::value_t::floating: return format_number(v.as_floating()) + " (a number)";
-        case toml::value_t::string: return toml_quote(v.as_string().str) + " (a string)";
-        case toml::value_t::array: return "an array";
-        case toml::value_t::table: return "a table";
-        default: return "a date/time";
+        case toml::value_t::boolean:
+            return v.as_boolean() ? "true (a boolean)" : "false (a boolean)";
+        case toml::value_t::integer:
+            return std::to_string(v.as_integer()) + " (an integer)";
+        case toml::value_t::floating:
+            return format_number(v.as_floating()) + " (a number)";
+        case toml::value_t::string:
+            return toml_quote(v.as_string().str) + " (a string)";
+        case toml::value_t::array:
+            return "an array";
+        case toml::value_t::table:
+            return "a table";
+        default:
+            return "a date/time";
     }
 }
 
@@ -78,8 +85,7 @@ struct TableReader {
         for (const auto& [k, v] : table.as_table())
             if (!used.count(k)) unknown.emplace_back(k, line_of(v));
         std::sort(unknown.begin(), unknown.end());
-        for (const auto& [k, line] : unknown)
-            problems.add(line, key_path(k), "unknown key; allowed here: " + allowed);
+        for (const auto& [k, line] : unknown) problems.add(line, key_path(k), "unknown key; allowed here: " + allowed);
     }
 };
 
@@ -294,9 +300,9 @@ void read_filter(TableReader& t, FilterSpec& f) {
     read_double(t, "insertion_loss_db", f.insertion_loss_db, "dB");
     read_string(t, "path", f.path);
     read_bool(t, "linear_phase", f.linear_phase);
-    t.finish(join_keys({"type", "preset", "response", "center_hz", "bandwidth_hz", "order", "ripple_db",
-                        "stop_atten_db", "transition_hz", "fir_method", "sections", "insertion_loss_db", "path",
-                        "linear_phase"}));
+    t.finish(
+        join_keys({"type", "preset", "response", "center_hz", "bandwidth_hz", "order", "ripple_db", "stop_atten_db",
+                   "transition_hz", "fir_method", "sections", "insertion_loss_db", "path", "linear_phase"}));
 }
 
 void read_phase_noise(TableReader& t, std::vector<PhaseNoisePoint>& out) {
@@ -309,9 +315,12 @@ void read_phase_noise(TableReader& t, std::vector<PhaseNoisePoint>& out) {
     }
     for (const auto& item : v->as_array()) {
         auto number = [](const toml::value& x, double& d) {
-            if (x.is_integer()) d = static_cast<double>(x.as_integer());
-            else if (x.is_floating()) d = x.as_floating();
-            else return false;
+            if (x.is_integer())
+                d = static_cast<double>(x.as_integer());
+            else if (x.is_floating())
+                d = x.as_floating();
+            else
+                return false;
             return std::isfinite(d);
         };
         PhaseNoisePoint p;
@@ -348,9 +357,9 @@ void read_mixer(TableReader& t, MixerSpec& m) {
         read_phase_noise(r, m.lo.phase_noise);
         r.finish(join_keys({"frequency_hz", "level_dbm", "offset_ppm", "phase_noise"}));
     }
-    t.finish(join_keys({"model", "preset", "conversion_gain_db", "lo_if_isolation_db", "rf_if_isolation_db",
-                        "iip2_dbm", "iip3_dbm", "duty_cycle", "edge_time", "harmonics", "iq_gain_error_db",
-                        "iq_phase_error_deg", "dc_offset_dbfs", "noise_figure_db", "noise_dbfs_per_hz", "[lo]"}));
+    t.finish(join_keys({"model", "preset", "conversion_gain_db", "lo_if_isolation_db", "rf_if_isolation_db", "iip2_dbm",
+                        "iip3_dbm", "duty_cycle", "edge_time", "harmonics", "iq_gain_error_db", "iq_phase_error_deg",
+                        "dc_offset_dbfs", "noise_figure_db", "noise_dbfs_per_hz", "[lo]"}));
 }
 
 void read_if_chain(TableReader& t, IfChainSpec& c) {
@@ -370,8 +379,8 @@ void read_analyzer(TableReader& t, AnalyzerSpec& a) {
     read_enum(t, "averaging", a.averaging);
     read_enum(t, "unit", a.unit);
     read_double(t, "calibration_db", a.calibration_db, "dB");
-    t.finish(join_keys({"fft_size", "window", "kaiser_beta", "overlap", "averages", "averaging", "unit",
-                        "calibration_db"}));
+    t.finish(
+        join_keys({"fft_size", "window", "kaiser_beta", "overlap", "averages", "averaging", "unit", "calibration_db"}));
 }
 
 void read_plan(TableReader& t, PlanSpec& p) {
@@ -393,10 +402,24 @@ void read_plan(TableReader& t, PlanSpec& p) {
         read_double(r, "spur_dbc", p.limits.spur_dbc, "dBc");
         read_double(r, "lo_feedthrough_dbc", p.limits.lo_feedthrough_dbc, "dBc");
         read_double(r, "spur_rejection_db", p.limits.spur_rejection_db, "dB");
-        r.finish(join_keys({"image_rejection_db", "spur_dbc", "lo_feedthrough_dbc", "spur_rejection_db"}));
+        read_opt_double(r, "iip3_min_dbm", p.limits.iip3_min_dbm, "dBm");
+        read_opt_double(r, "iip2_min_dbm", p.limits.iip2_min_dbm, "dBm");
+        r.finish(join_keys({"image_rejection_db", "spur_dbc", "lo_feedthrough_dbc", "spur_rejection_db", "iip3_min_dbm",
+                            "iip2_min_dbm"}));
     }
+    read_freq(t, "two_tone_spacing_hz", p.two_tone_spacing_hz);
     t.finish(join_keys({"rf_low_hz", "rf_high_hz", "channel_spacing_hz", "wanted_hz", "if_hz", "if_bandwidth_hz",
-                        "injection", "max_order", "[limits]"}));
+                        "injection", "max_order", "two_tone_spacing_hz", "[limits]"}));
+}
+
+void read_sweep(TableReader& t, SweepSpec& w) {
+    read_opt_freq(t, "rf_low_hz", w.rf_low_hz);
+    read_opt_freq(t, "rf_high_hz", w.rf_high_hz);
+    read_opt_freq(t, "step_hz", w.step_hz);
+    read_double(t, "reference_dbfs", w.reference_dbfs, "dBFS");
+    read_opt_double(t, "tone_dbfs", w.tone_dbfs, "dBFS");
+    read_enum(t, "method", w.method);
+    t.finish(join_keys({"rf_low_hz", "rf_high_hz", "step_hz", "reference_dbfs", "tone_dbfs", "method"}));
 }
 
 std::string folder_of(const std::string& path) {
@@ -472,7 +495,11 @@ Setup parse_session(std::string_view text, const std::string& name) {
     } else {
         pr.add(0, "plan", "missing required section [plan] (wanted_hz, if_hz, if_bandwidth_hz at least)");
     }
-    top.finish("[bench], [[source]], [rf_filter], [mixer], [[if_filter]], [if_chain], [analyzer], [plan]");
+    if (const toml::value* v = sub_table(top, "sweep")) {
+        TableReader r{*v, "sweep", pr, {}};
+        read_sweep(r, s.sweep);
+    }
+    top.finish("[bench], [[source]], [rf_filter], [mixer], [[if_filter]], [if_chain], [analyzer], [plan], [sweep]");
 
     // Value and consistency checks only make sense once every key was read cleanly.
     if (pr.items.empty()) {
@@ -499,11 +526,21 @@ std::string toml_quote(std::string_view s) {
     for (char ch : s) {
         const auto c = static_cast<unsigned char>(ch);
         switch (ch) {
-            case '"': out += "\\\""; break;
-            case '\\': out += "\\\\"; break;
-            case '\n': out += "\\n"; break;
-            case '\t': out += "\\t"; break;
-            case '\r': out += "\\r"; break;
+            case '"':
+                out += "\\\"";
+                break;
+            case '\\':
+                out += "\\\\";
+                break;
+            case '\n':
+                out += "\\n";
+                break;
+            case '\t':
+                out += "\\t";
+                break;
+            case '\r':
+                out += "\\r";
+                break;
             default:
                 if (c < 0x20 || c == 0x7f) {
                     char buf[8];
@@ -645,11 +682,24 @@ std::string session_to_toml(const Setup& s) {
     w.num("if_bandwidth_hz", p.if_bandwidth_hz);
     w.str("injection", to_string(p.injection));
     w.integer("max_order", p.max_order);
+    if (p.two_tone_spacing_hz > 0) w.num("two_tone_spacing_hz", p.two_tone_spacing_hz);
     w.section("[plan.limits]");
     w.num("image_rejection_db", p.limits.image_rejection_db);
     w.num("spur_dbc", p.limits.spur_dbc);
     w.num("lo_feedthrough_dbc", p.limits.lo_feedthrough_dbc);
     w.num("spur_rejection_db", p.limits.spur_rejection_db);
+    w.num("iip3_min_dbm", p.limits.iip3_min_dbm);
+    w.num("iip2_min_dbm", p.limits.iip2_min_dbm);
+    const SweepSpec& sw = s.sweep;
+    if (!(sw == SweepSpec{})) {
+        w.section("[sweep]");
+        w.num("rf_low_hz", sw.rf_low_hz);
+        w.num("rf_high_hz", sw.rf_high_hz);
+        w.num("step_hz", sw.step_hz);
+        w.num("reference_dbfs", sw.reference_dbfs);
+        w.num("tone_dbfs", sw.tone_dbfs);
+        w.str("method", to_string(sw.method));
+    }
     return w.out.str();
 }
 

@@ -41,8 +41,8 @@ NoiseFloor noise_floor(const Spectrum& s, double low_hz = kNaN, double high_hz =
 // The same with the bin statistics already at hand (bin_statistics(s) builds the window once more).
 NoiseFloor noise_floor(const Spectrum& s, const BinStatistics& st, double low_hz, double high_hz);
 
-// μ for every bin: the floor above taken in blocks of N/32 bins (16…512), interpolated in dB between block
-// centres, so it follows IF-filter shapes and skirts. Size s.size().
+// μ for every bin: the floor above taken in half-overlapping blocks of 16…256 bins (as few as the bins' scatter
+// allows), interpolated in dB between block centres, so it follows IF-filter shapes and skirts. Size s.size().
 std::vector<double> noise_floor_profile(const Spectrum& s);
 std::vector<double> noise_floor_profile(const Spectrum& s, const BinStatistics& st);
 
@@ -141,6 +141,20 @@ struct UnexplainedPeak {
     double level_dbm = kNaN;
     double level_dbc = kNaN;
     double above_floor_db = kNaN;  // peak bin over the local mean noise per bin
+    // Filled by the signal chain when a signal at the RF port explains the peak through one of the mixer's
+    // spurious responses (check_plan leaves them empty): the response of that signal, its RF frequency and
+    // level, and the measured spurious-response rejection (the wanted's conversion gain over this one's, dB).
+    std::string response;  // e.g. "image", "half-IF", "IF", "2LO-3RF"
+    int m = 0, n = 0;
+    double source_rf_hz = kNaN;
+    double source_rf_dbfs = kNaN;
+    double rejection_db = kNaN;
+    // A response that lands inside the IF passband is a spurious response of the receiver and is judged: against
+    // image_rejection_db (the image) or spur_rejection_db (any other). One outside the passband is another
+    // channel seen through the IF filter's skirt: reported, not judged (status not-observable).
+    bool in_if_band = false;
+    double limit_db = kNaN;
+    LineStatus status = LineStatus::not_observable;
 };
 
 struct PlanCheck {

@@ -4,17 +4,17 @@
 #include <cmath>
 #include <utility>
 
-#include "dsp/plan.hpp"
-#include "dsp/mixer.hpp"
 #include "dsp/filter_presets.hpp"
+#include "dsp/mixer.hpp"
 #include "dsp/names.hpp"
+#include "dsp/plan.hpp"
 #include "dsp/units.hpp"
 
 namespace hb {
 namespace {
 
-constexpr NameTable<SourceKind, 3> kSourceKinds{{
-    {SourceKind::recording, "recording"}, {SourceKind::device, "device"}, {SourceKind::generator, "generator"}}};
+constexpr NameTable<SourceKind, 3> kSourceKinds{
+    {{SourceKind::recording, "recording"}, {SourceKind::device, "device"}, {SourceKind::generator, "generator"}}};
 constexpr NameTable<FilterType, 8> kFilterTypes{{{FilterType::none, "none"},
                                                  {FilterType::butterworth, "butterworth"},
                                                  {FilterType::chebyshev1, "chebyshev1"},
@@ -43,6 +43,8 @@ constexpr NameTable<Averaging, 4> kAveraging{{{Averaging::rms, "rms"},
                                               {Averaging::min_hold, "min-hold"}}};
 constexpr NameTable<LevelUnit, 2> kUnits{{{LevelUnit::dbfs, "dBFS"}, {LevelUnit::dbm, "dBm"}}};
 constexpr NameTable<Injection, 2> kInjections{{{Injection::low, "low"}, {Injection::high, "high"}}};
+constexpr NameTable<SweepMethod, 2> kSweepMethods{
+    {{SweepMethod::fixed_level, "fixed-level"}, {SweepMethod::equal_output, "equal-output"}}};
 
 void check_filter(Checker& c, const std::string& at, const FilterSpec& f) {
     if (!f.preset.empty() && !filter_preset(f.preset))
@@ -80,35 +82,108 @@ void check_filter(Checker& c, const std::string& at, const FilterSpec& f) {
 
 }  // namespace
 
-std::string_view to_string(SourceKind v) { return name_of(kSourceKinds, v); }
-std::string_view to_string(FilterType v) { return name_of(kFilterTypes, v); }
-std::string_view to_string(FilterResponse v) { return name_of(kResponses, v); }
-std::string_view to_string(FirMethod v) { return name_of(kFirMethods, v); }
-std::string_view to_string(MixerModel v) { return name_of(kMixerModels, v); }
-std::string_view to_string(WindowType v) { return name_of(kWindows, v); }
-std::string_view to_string(Averaging v) { return name_of(kAveraging, v); }
-std::string_view to_string(LevelUnit v) { return name_of(kUnits, v); }
-std::string_view to_string(Injection v) { return name_of(kInjections, v); }
+std::string_view to_string(SourceKind v) {
+    return name_of(kSourceKinds, v);
+}
+std::string_view to_string(FilterType v) {
+    return name_of(kFilterTypes, v);
+}
+std::string_view to_string(FilterResponse v) {
+    return name_of(kResponses, v);
+}
+std::string_view to_string(FirMethod v) {
+    return name_of(kFirMethods, v);
+}
+std::string_view to_string(MixerModel v) {
+    return name_of(kMixerModels, v);
+}
+std::string_view to_string(WindowType v) {
+    return name_of(kWindows, v);
+}
+std::string_view to_string(Averaging v) {
+    return name_of(kAveraging, v);
+}
+std::string_view to_string(LevelUnit v) {
+    return name_of(kUnits, v);
+}
+std::string_view to_string(Injection v) {
+    return name_of(kInjections, v);
+}
+std::string_view to_string(SweepMethod v) {
+    return name_of(kSweepMethods, v);
+}
 
-bool parse(std::string_view t, SourceKind& o) { return value_of(kSourceKinds, t, o); }
-bool parse(std::string_view t, FilterType& o) { return value_of(kFilterTypes, t, o); }
-bool parse(std::string_view t, FilterResponse& o) { return value_of(kResponses, t, o); }
-bool parse(std::string_view t, FirMethod& o) { return value_of(kFirMethods, t, o); }
-bool parse(std::string_view t, MixerModel& o) { return value_of(kMixerModels, t, o); }
-bool parse(std::string_view t, WindowType& o) { return value_of(kWindows, t, o); }
-bool parse(std::string_view t, Averaging& o) { return value_of(kAveraging, t, o); }
-bool parse(std::string_view t, LevelUnit& o) { return value_of(kUnits, t, o); }
-bool parse(std::string_view t, Injection& o) { return value_of(kInjections, t, o); }
+bool parse(std::string_view t, SourceKind& o) {
+    return value_of(kSourceKinds, t, o);
+}
+bool parse(std::string_view t, FilterType& o) {
+    return value_of(kFilterTypes, t, o);
+}
+bool parse(std::string_view t, FilterResponse& o) {
+    return value_of(kResponses, t, o);
+}
+bool parse(std::string_view t, FirMethod& o) {
+    return value_of(kFirMethods, t, o);
+}
+bool parse(std::string_view t, MixerModel& o) {
+    return value_of(kMixerModels, t, o);
+}
+bool parse(std::string_view t, WindowType& o) {
+    return value_of(kWindows, t, o);
+}
+bool parse(std::string_view t, Averaging& o) {
+    return value_of(kAveraging, t, o);
+}
+bool parse(std::string_view t, LevelUnit& o) {
+    return value_of(kUnits, t, o);
+}
+bool parse(std::string_view t, Injection& o) {
+    return value_of(kInjections, t, o);
+}
+bool parse(std::string_view t, SweepMethod& o) {
+    return value_of(kSweepMethods, t, o);
+}
 
-template <> std::string allowed_names<SourceKind>() { return join_names(kSourceKinds); }
-template <> std::string allowed_names<FilterType>() { return join_names(kFilterTypes); }
-template <> std::string allowed_names<FilterResponse>() { return join_names(kResponses); }
-template <> std::string allowed_names<FirMethod>() { return join_names(kFirMethods); }
-template <> std::string allowed_names<MixerModel>() { return join_names(kMixerModels); }
-template <> std::string allowed_names<WindowType>() { return join_names(kWindows); }
-template <> std::string allowed_names<Averaging>() { return join_names(kAveraging); }
-template <> std::string allowed_names<LevelUnit>() { return join_names(kUnits); }
-template <> std::string allowed_names<Injection>() { return join_names(kInjections); }
+template <>
+std::string allowed_names<SourceKind>() {
+    return join_names(kSourceKinds);
+}
+template <>
+std::string allowed_names<FilterType>() {
+    return join_names(kFilterTypes);
+}
+template <>
+std::string allowed_names<FilterResponse>() {
+    return join_names(kResponses);
+}
+template <>
+std::string allowed_names<FirMethod>() {
+    return join_names(kFirMethods);
+}
+template <>
+std::string allowed_names<MixerModel>() {
+    return join_names(kMixerModels);
+}
+template <>
+std::string allowed_names<WindowType>() {
+    return join_names(kWindows);
+}
+template <>
+std::string allowed_names<Averaging>() {
+    return join_names(kAveraging);
+}
+template <>
+std::string allowed_names<LevelUnit>() {
+    return join_names(kUnits);
+}
+template <>
+std::string allowed_names<Injection>() {
+    return join_names(kInjections);
+}
+template <>
+std::string allowed_names<SweepMethod>() {
+    return join_names(kSweepMethods);
+}
 
 std::string resolve_path(const Setup& s, const std::string& path) {
     if (path.empty() || path.front() == '/' || s.base_dir.empty()) return path;
@@ -154,8 +229,8 @@ std::vector<SetupProblem> validate(const Setup& s) {
     c.opt_range("mixer.iip2_dbm", m.iip2_dbm, -100, 150, "dBm");
     c.opt_range("mixer.iip3_dbm", m.iip3_dbm, -100, 100, "dBm");
     if (m.duty_cycle && !(*m.duty_cycle > 0.0 && *m.duty_cycle < 1.0))
-        c.fail("mixer.duty_cycle", "got " + format_number(*m.duty_cycle) +
-                                       ", expected a fraction of the LO period above 0 and below 1");
+        c.fail("mixer.duty_cycle",
+               "got " + format_number(*m.duty_cycle) + ", expected a fraction of the LO period above 0 and below 1");
     c.opt_range("mixer.edge_time", m.edge_time, 0, 0.5, "of the LO period");
     if (m.edge_time && m.duty_cycle && *m.edge_time > std::min(*m.duty_cycle, 1.0 - *m.duty_cycle))
         c.fail("mixer.edge_time", "got " + format_number(*m.edge_time) +
@@ -208,6 +283,25 @@ std::vector<SetupProblem> validate(const Setup& s) {
     c.range("plan.limits.spur_dbc", p.limits.spur_dbc, -300, 0, "dBc");
     c.range("plan.limits.lo_feedthrough_dbc", p.limits.lo_feedthrough_dbc, -300, 0, "dBc");
     c.range("plan.limits.spur_rejection_db", p.limits.spur_rejection_db, 0, 300, "dB");
+    if (p.limits.iip3_min_dbm) c.range("plan.limits.iip3_min_dbm", *p.limits.iip3_min_dbm, -300, 300, "dBm");
+    if (p.limits.iip2_min_dbm) c.range("plan.limits.iip2_min_dbm", *p.limits.iip2_min_dbm, -300, 300, "dBm");
+    c.range("plan.two_tone_spacing_hz", p.two_tone_spacing_hz, 0, kMaxFrequencyHz, "Hz");
+    if (p.two_tone_spacing_hz > 0 && std::isfinite(p.if_bandwidth_hz) &&
+        3 * p.two_tone_spacing_hz > p.if_bandwidth_hz * 10)
+        c.fail("plan.two_tone_spacing_hz",
+               "got " + format_number(p.two_tone_spacing_hz) +
+                   " Hz: the IM3 products (1.5 spacings either side) would fall far outside "
+                   "the IF passband; expected a spacing near the channel width");
+
+    const SweepSpec& w = s.sweep;
+    if (w.rf_low_hz) c.range("sweep.rf_low_hz", *w.rf_low_hz, 0, kMaxFrequencyHz, "Hz");
+    if (w.rf_high_hz) c.range("sweep.rf_high_hz", *w.rf_high_hz, 0, kMaxFrequencyHz, "Hz");
+    if (w.rf_low_hz && w.rf_high_hz && *w.rf_high_hz <= *w.rf_low_hz)
+        c.fail("sweep.rf_high_hz", "got " + format_number(*w.rf_high_hz) + " Hz, expected above sweep.rf_low_hz (" +
+                                       format_number(*w.rf_low_hz) + " Hz)");
+    if (w.step_hz) c.positive("sweep.step_hz", *w.step_hz, kMaxFrequencyHz, "Hz");
+    c.range("sweep.reference_dbfs", w.reference_dbfs, -200, 0, "dBFS");
+    if (w.tone_dbfs) c.range("sweep.tone_dbfs", *w.tone_dbfs, -200, 0, "dBFS");
 
     const bool finite_plan = std::isfinite(p.wanted_hz) && std::isfinite(p.if_hz) && std::isfinite(p.if_bandwidth_hz) &&
                              std::isfinite(p.rf_low_hz) && std::isfinite(p.rf_high_hz) && p.wanted_hz > 0 &&
@@ -217,8 +311,9 @@ std::vector<SetupProblem> validate(const Setup& s) {
             c.fail("plan.rf_high_hz", "got " + format_number(p.rf_high_hz) + " Hz, expected at least rf_low_hz (" +
                                           format_number(p.rf_low_hz) + " Hz)");
         else if (p.wanted_hz < p.rf_low_hz || p.wanted_hz > p.rf_high_hz)
-            c.fail("plan.wanted_hz", "got " + format_number(p.wanted_hz) + " Hz, expected a frequency inside the RF band " +
-                                         format_number(p.rf_low_hz) + " to " + format_number(p.rf_high_hz) + " Hz");
+            c.fail("plan.wanted_hz", "got " + format_number(p.wanted_hz) +
+                                         " Hz, expected a frequency inside the RF band " + format_number(p.rf_low_hz) +
+                                         " to " + format_number(p.rf_high_hz) + " Hz");
         if (p.channel_spacing_hz > 0 && (p.rf_high_hz - p.rf_low_hz) / p.channel_spacing_hz > 1e6)
             c.fail("plan.channel_spacing_hz", "got " + format_number(p.channel_spacing_hz) +
                                                   " Hz, which gives more than 1000000 channels across the RF band");
@@ -226,7 +321,8 @@ std::vector<SetupProblem> validate(const Setup& s) {
         if (p.if_hz - half_bw <= 0)
             c.fail("plan.if_bandwidth_hz", "got " + format_number(p.if_bandwidth_hz) +
                                                " Hz: the IF passband would contain 0 Hz; expected less than twice "
-                                               "plan.if_hz (" + format_number(2 * p.if_hz) + " Hz)");
+                                               "plan.if_hz (" +
+                                               format_number(2 * p.if_hz) + " Hz)");
         const double lo = lo_frequency_hz(s);
         const std::string lo_key = m.lo.frequency_hz ? "mixer.lo.frequency_hz" : "plan.injection";
         if (!(lo > 0))

@@ -135,6 +135,8 @@ struct PlanLimits {
     double spur_dbc = -60.0;            // any predicted product at most this level
     double lo_feedthrough_dbc = -30.0;  // LO at the IF output at most this level
     double spur_rejection_db = 60.0;    // spurious-response rejection (sweep) at least this
+    std::optional<double> iip3_min_dbm;  // two-tone test: input IP3 at least this (unset: not judged)
+    std::optional<double> iip2_min_dbm;  // two-tone test: input IP2 at least this
     friend bool operator==(const PlanLimits&, const PlanLimits&) = default;
 };
 
@@ -147,8 +149,24 @@ struct PlanSpec {
     double if_bandwidth_hz = 0.0;
     Injection injection = Injection::high;
     int max_order = 7;  // |m| + |n| <= max_order
+    // Two-tone test: > 0 means the input holds two equal tones at wanted_hz ± spacing/2 (not one wanted), and
+    // the check measures their intermodulation (IM3, IM2) and the intercepts.
+    double two_tone_spacing_hz = 0.0;
     PlanLimits limits;
     friend bool operator==(const PlanSpec&, const PlanSpec&) = default;
+};
+
+enum class SweepMethod { fixed_level, equal_output };
+
+// The spurious-response sweep (hetbench sweep): CW test tones across an RF range and at every predicted response.
+struct SweepSpec {
+    std::optional<double> rf_low_hz;   // default: the plan's RF band widened to take in its image
+    std::optional<double> rf_high_hz;
+    std::optional<double> step_hz;     // grid step; default: 1000 points over the range
+    double reference_dbfs = -30.0;     // the wanted signal's level at the RF port
+    std::optional<double> tone_dbfs;   // fixed-level method: the test tone's level (default: the reference)
+    SweepMethod method = SweepMethod::fixed_level;
+    friend bool operator==(const SweepSpec&, const SweepSpec&) = default;
 };
 
 struct Setup {
@@ -160,6 +178,7 @@ struct Setup {
     IfChainSpec if_chain;
     AnalyzerSpec analyzer;
     PlanSpec plan;
+    SweepSpec sweep;
     // Directory that relative paths in this Setup are read against (the session file's folder).
     // Not part of the session text.
     std::string base_dir;
@@ -198,6 +217,7 @@ std::string_view to_string(WindowType);
 std::string_view to_string(Averaging);
 std::string_view to_string(LevelUnit);
 std::string_view to_string(Injection);
+std::string_view to_string(SweepMethod);
 
 // Parsers return false on an unknown name.
 bool parse(std::string_view text, SourceKind& out);
@@ -209,6 +229,7 @@ bool parse(std::string_view text, WindowType& out);
 bool parse(std::string_view text, Averaging& out);
 bool parse(std::string_view text, LevelUnit& out);
 bool parse(std::string_view text, Injection& out);
+bool parse(std::string_view text, SweepMethod& out);
 
 // The allowed names, "a|b|c", for error messages.
 template <class E> std::string allowed_names();

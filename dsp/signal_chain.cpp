@@ -57,13 +57,20 @@ struct Zone {
 
 LineKind line_kind(ProductKind k) {
     switch (k) {
-        case ProductKind::wanted: return LineKind::wanted;
-        case ProductKind::image: return LineKind::image;
-        case ProductKind::half_if: return LineKind::half_if;
-        case ProductKind::if_feedthrough: return LineKind::if_feedthrough;
-        case ProductKind::lo_feedthrough: return LineKind::lo_feedthrough;
-        case ProductKind::rf_feedthrough: return LineKind::rf_feedthrough;
-        case ProductKind::spur: return LineKind::spur;
+        case ProductKind::wanted:
+            return LineKind::wanted;
+        case ProductKind::image:
+            return LineKind::image;
+        case ProductKind::half_if:
+            return LineKind::half_if;
+        case ProductKind::if_feedthrough:
+            return LineKind::if_feedthrough;
+        case ProductKind::lo_feedthrough:
+            return LineKind::lo_feedthrough;
+        case ProductKind::rf_feedthrough:
+            return LineKind::rf_feedthrough;
+        case ProductKind::spur:
+            return LineKind::spur;
     }
     return LineKind::spur;
 }
@@ -125,21 +132,23 @@ std::vector<ExpectedLine> expected_lines(const Setup& s, const BenchModel& model
         if (!quadrature) return p.freq_hz;
         return lvl.sign * p.signed_hz;
     };
-    const ProductLevel wanted_level = mp.predicts ? predict_product(mp, coeffs, 1, q.wanted_n, drive_dbfs) : ProductLevel{};
+    const ProductLevel wanted_level =
+        mp.predicts ? predict_product(mp, coeffs, 1, q.wanted_n, drive_dbfs) : ProductLevel{};
     const Product* wanted = nullptr;
     for (const Product& p : products)
         if (p.kind == ProductKind::wanted) wanted = &p;
     // (Without a wanted product, max_order < 2, the convention above still places it.)
-    const double wanted_frame = wanted ? frame_hz(*wanted, wanted_level)
-                                       : (quadrature ? s.plan.wanted_hz - lo_hz
-                                                     : std::abs(lo_hz + q.wanted_n * s.plan.wanted_hz));
+    const double wanted_frame =
+        wanted ? frame_hz(*wanted, wanted_level)
+               : (quadrature ? s.plan.wanted_hz - lo_hz : std::abs(lo_hz + q.wanted_n * s.plan.wanted_hz));
     const double wanted_gain = if_response ? std::abs(if_response(wanted_frame)) : 1.0;
 
     std::vector<ExpectedLine> lines;
     for (const Product& p : products) {
         const ProductLevel lvl = mp.predicts ? predict_product(mp, coeffs, p.m, p.n, drive_dbfs) : ProductLevel{};
         const double f = p.kind == ProductKind::wanted ? wanted_frame : frame_hz(p, lvl);
-        if (!window.contains(f)) continue;
+        // Lines outside the window stay in the list: the plan check reports them as not observable in this input.
+        const bool inside = window.contains(f);
         ExpectedLine e;
         e.label = p.label;
         e.m = p.m;
@@ -150,7 +159,8 @@ std::vector<ExpectedLine> expected_lines(const Setup& s, const BenchModel& model
             e.predicted_dbc = 0.0;
         } else if (mp.predicts) {
             double dbc = lvl.dbc;
-            if (if_response && wanted_gain > 0) dbc += db_from_amplitude(std::abs(if_response(f)) / wanted_gain);
+            if (if_response && wanted_gain > 0 && inside)
+                dbc += db_from_amplitude(std::abs(if_response(f)) / wanted_gain);
             e.predicted_dbc = std::isnan(dbc) ? kNaN : std::max(dbc, -400.0);
         } else {
             e.predicted_dbc = predict_product_dbc(model.plan, p.m, p.n, s.plan.wanted_hz);
@@ -202,8 +212,8 @@ struct SignalChain::Impl {
         for (std::size_t k = 1; k < n; ++k) {
             int z = -1;
             for (std::size_t j = 0; j < layout.zones.size() && z < 0; ++j)
-                if (fits(layout.zones[j], inputs[k].center_hz, std::min(inputs[k].sample_rate_hz,
-                                                                        inputs[0].sample_rate_hz)))
+                if (fits(layout.zones[j], inputs[k].center_hz,
+                         std::min(inputs[k].sample_rate_hz, inputs[0].sample_rate_hz)))
                     z = static_cast<int>(j);
             if (z < 0) {
                 z = static_cast<int>(layout.zones.size());
@@ -245,8 +255,9 @@ struct SignalChain::Impl {
         const double fs = inputs[0].sample_rate_hz;
         const bool bypass = model.mixer.model == MixerModel::bypass;
         if (bypass && layout.zones.size() > 1)
-            throw InputError("source: with mixer.model = \"bypass\" every source must fit in the first source's window "
-                             "(the input already is the IF of a real mixer)");
+            throw InputError(
+                "source: with mixer.model = \"bypass\" every source must fit in the first source's window "
+                "(the input already is the IF of a real mixer)");
         const double out_c = bypass ? layout.zones[0].center_hz
                                     : setup.if_chain.center_hz.value_or(
                                           if_window_center_hz(model.mixer, setup.plan.if_hz, layout.injection));
@@ -284,8 +295,8 @@ struct SignalChain::Impl {
     }
 
     void build_if_chain() {
-        if (setup.if_chain.sample_rate_hz && std::abs(*setup.if_chain.sample_rate_hz - inputs[0].sample_rate_hz) >
-                                                 1e-9 * inputs[0].sample_rate_hz)
+        if (setup.if_chain.sample_rate_hz &&
+            std::abs(*setup.if_chain.sample_rate_hz - inputs[0].sample_rate_hz) > 1e-9 * inputs[0].sample_rate_hz)
             throw InputError("if_chain.sample_rate_hz: got " + format_number(*setup.if_chain.sample_rate_hz) +
                              " Hz; the IF window runs at the RF rate (" + format_number(inputs[0].sample_rate_hz) +
                              " Hz): leave it unset and use if_chain.decimation to lower the output rate");
@@ -330,9 +341,12 @@ struct SignalChain::Impl {
     EnvelopeWindow window_of(Probe p) const {
         switch (p) {
             case Probe::rf_input:
-            case Probe::rf_filtered: return zones[0].window;
-            case Probe::mixer_output: return layout.mixer_output;
-            case Probe::if_output: return layout.if_output;
+            case Probe::rf_filtered:
+                return zones[0].window;
+            case Probe::mixer_output:
+                return layout.mixer_output;
+            case Probe::if_output:
+                return layout.if_output;
         }
         return layout.if_output;
     }
@@ -377,7 +391,8 @@ struct SignalChain::Impl {
                 l.head = 0;
             }
             if (l.tail + y.size() > l.fifo.size())
-                throw InputError("source[" + std::to_string(k) + "]: delivers samples far ahead of the first source; "
+                throw InputError("source[" + std::to_string(k) +
+                                 "]: delivers samples far ahead of the first source; "
                                  "feed sources in proportion to their rates (SignalChain::samples_for)");
             cf32* out = l.fifo.data() + l.tail;
             // Shift with a double-precision phasor started from the accumulated phase (no drift across calls).
@@ -426,12 +441,11 @@ struct SignalChain::Impl {
         if_count = if_chain.process(mix.data(), n, if_out.data());
         if_welch->push(std::span<const cf32>(if_out.data(), if_count));
         if (probe_welch) {
-            const std::span<const cf32> p = probe == Probe::rf_filtered
-                                                ? std::span<const cf32>(zones[0].filtered ? zones[0].filt.data()
-                                                                                          : zones[0].in.data(),
-                                                                        n)
-                                            : probe == Probe::mixer_output ? std::span<const cf32>(mix.data(), n)
-                                                                           : std::span<const cf32>(zones[0].in.data(), n);
+            const std::span<const cf32> p =
+                probe == Probe::rf_filtered
+                    ? std::span<const cf32>(zones[0].filtered ? zones[0].filt.data() : zones[0].in.data(), n)
+                : probe == Probe::mixer_output ? std::span<const cf32>(mix.data(), n)
+                                               : std::span<const cf32>(zones[0].in.data(), n);
             probe_welch->push(p);
         }
         last_block = n;
@@ -491,8 +505,7 @@ void SignalChain::process(std::span<const std::span<const cf32>> inputs) {
     while (more) {
         more = false;
         for (std::size_t k = 0; k < inputs.size(); ++k) {
-            const std::size_t step =
-                std::max<std::size_t>(1, samples_for(k, m.opt.max_block));
+            const std::size_t step = std::max<std::size_t>(1, samples_for(k, m.opt.max_block));
             const std::size_t take = std::min(step, inputs[k].size() - pos[k]);
             if (take == 0) continue;
             m.feed(k, inputs[k].subspan(pos[k], take));
@@ -520,6 +533,109 @@ std::size_t SignalChain::samples_for(std::size_t source, std::size_t n_primary) 
     return static_cast<std::size_t>(std::ceil(static_cast<double>(n_primary) * r));
 }
 
+namespace {
+
+// Explains unexplained IF peaks by signals at the RF port: for each peak, the spurious responses (m, n) of the
+// LO that land on its frequency (the peak taken as a narrow IF band), and among the RF signals found in those
+// response bands the one of the lowest order (then the strongest). The rejection is the wanted's conversion
+// gain over the response's, both measured: (wanted_IF − wanted_RF) − (peak_IF − signal_RF).
+template <class RfSpectrum, class ZoneOf>
+void attribute_unexplained(ChainAnalysis& a, const SignalChain::Impl& m, RfSpectrum&& rf_spectrum, ZoneOf&& zone_of) {
+    if (a.check.unexplained.empty() || m.model.mixer.model == MixerModel::bypass) return;
+    const Setup& s = m.setup;
+    const bool quad = m.model.mixer.model == MixerModel::quadrature;
+    struct ZoneView {
+        bool made = false;
+        Spectrum spectrum;
+        NoiseFloor floor;
+        WindowResponse response;
+    };
+    std::vector<ZoneView> views(m.zones.size());
+    auto view = [&](int z) -> ZoneView& {
+        ZoneView& v = views[static_cast<std::size_t>(z)];
+        if (!v.made) {
+            v.spectrum = rf_spectrum(z);
+            v.floor = noise_floor(v.spectrum);
+            v.response = make_window_response(v.spectrum.spec.window, v.spectrum.spec.kaiser_beta,
+                                              static_cast<std::size_t>(v.spectrum.size()));
+            v.made = true;
+        }
+        return v;
+    };
+    const bool have_wanted = a.check.wanted.status == LineStatus::pass && std::isfinite(a.wanted_rf_dbfs);
+    for (UnexplainedPeak& u : a.check.unexplained) {
+        const double tol = 2.0 * a.if_out.rbw_hz + 2.0 * a.if_out.bin_hz();
+        const double f = std::abs(u.freq_hz);
+        if (!(f > 2 * tol)) continue;
+        ResponseQuery q;
+        q.lo_hz = m.layout.lo_hz;
+        q.max_order = s.plan.max_order;
+        q.if_band = {f, 2 * tol};
+        q.wanted_rf_hz = s.plan.wanted_hz;
+        q.rf_low_hz = s.plan.rf_low_hz;
+        q.rf_high_hz = s.plan.rf_high_hz;
+        std::vector<Response> rs;
+        try {
+            rs = spurious_responses(q);
+        } catch (const InputError&) {
+            continue;
+        }
+        const Response* best = nullptr;
+        Tone best_tone;
+        for (const Response& r : rs) {
+            // A complex IF tells the sides apart: the response must land on the peak's side.
+            if (quad && (r.if_signed_hz > 0) != (u.freq_hz > 0)) continue;
+            const int z = zone_of(r.rf_hz);
+            if (z < 0) continue;
+            ZoneView& v = view(z);
+            // Narrow enough that a stronger neighbour (a carrier next to its own sideband) is not taken instead.
+            const double half = tol / std::abs(r.n) + 2 * v.spectrum.bin_hz();
+            const Tone t = measure_tone(v.spectrum, v.response, r.rf_hz - half, r.rf_hz + half, v.floor.power_per_bin);
+            if (!t.found || !(t.power > 100 * v.floor.power_per_bin)) continue;
+            // The signal found must itself map onto the peak (not merely sit near the response band's centre).
+            const double lands = r.m * m.layout.lo_hz + r.n * t.freq_hz;
+            if (std::abs(std::abs(lands) - f) > tol + std::abs(r.n) * 2 * v.spectrum.bin_hz()) continue;
+            // The wanted channel's own content through the wanted conversion is not a spurious response.
+            if (r.m == 1 && std::abs(r.n) == 1 && std::abs(t.freq_hz - s.plan.wanted_hz) < s.plan.if_bandwidth_hz / 2 &&
+                (t.freq_hz - m.layout.lo_hz) * (s.plan.wanted_hz - m.layout.lo_hz) > 0)
+                continue;
+            if (!best || r.order < best->order || (r.order == best->order && t.power > best_tone.power)) {
+                best = &r;
+                best_tone = t;
+            }
+        }
+        if (!best) continue;
+        u.m = best->m;
+        u.n = best->n;
+        // Named as the trade names them relative to the tuned channel; otherwise the line's expression.
+        const double lo = m.layout.lo_hz, w = s.plan.wanted_hz, rf = best_tone.freq_hz;
+        const bool other_side = (rf - lo) * (w - lo) < 0;
+        const bool between = (rf - w) * (rf - lo) < 0;
+        if (best->m == 0 && std::abs(best->n) == 1)
+            u.response = "IF";
+        else if (best->m == 1 && std::abs(best->n) == 1 && other_side)
+            u.response = "image";
+        else if (best->m == 2 && std::abs(best->n) == 2 && between)
+            u.response = "half-IF";
+        else
+            u.response = best->expr;
+        u.source_rf_hz = best_tone.freq_hz;
+        u.source_rf_dbfs = best_tone.level_dbfs;
+        if (have_wanted)
+            u.rejection_db = (a.check.wanted.level_dbfs - a.wanted_rf_dbfs) - (u.level_dbfs - best_tone.level_dbfs);
+        const double if_centre = std::abs(a.check.wanted.line.freq_hz);
+        u.in_if_band = std::abs(f - if_centre) <= s.plan.if_bandwidth_hz / 2;
+        if (u.in_if_band) {
+            u.limit_db = u.response == "image" ? s.plan.limits.image_rejection_db : s.plan.limits.spur_rejection_db;
+            u.status = !std::isfinite(u.rejection_db) ? LineStatus::not_observable
+                       : u.rejection_db >= u.limit_db ? LineStatus::pass
+                                                      : LineStatus::fail;
+        }
+    }
+}
+
+}  // namespace
+
 ChainAnalysis SignalChain::analyze() const {
     const Impl& m = *impl_;
     ChainAnalysis a;
@@ -531,7 +647,8 @@ ChainAnalysis SignalChain::analyze() const {
     // The wanted at the RF port: measured where a window holds it.
     auto zone_holding = [&](double f) -> int {
         for (std::size_t z = 0; z < m.zones.size(); ++z)
-            if (m.zones[z].rf_welch && std::abs(f - m.zones[z].window.center_hz) < 0.45 * m.zones[z].window.sample_rate_hz)
+            if (m.zones[z].rf_welch &&
+                std::abs(f - m.zones[z].window.center_hz) < 0.45 * m.zones[z].window.sample_rate_hz)
                 return static_cast<int>(z);
         return -1;
     };
@@ -551,8 +668,8 @@ ChainAnalysis SignalChain::analyze() const {
     const EnvelopeWindow& w = m.layout.if_output;
     const Band window{w.center_hz, w.sample_rate_hz};
     const FilterChain& ifc = m.if_chain;
-    a.lines = expected_lines(s, m.model, m.layout.lo_hz, a.drive_dbfs, window,
-                             [&ifc](double f) { return ifc.response(f); });
+    a.lines =
+        expected_lines(s, m.model, m.layout.lo_hz, a.drive_dbfs, window, [&ifc](double f) { return ifc.response(f); });
 
     // The image: the strongest signal in the image response band of an RF window, if any, and where it lands.
     ResponseQuery rq;
@@ -569,7 +686,8 @@ ChainAnalysis SignalChain::analyze() const {
         image_rf_hz = r.rf_hz;
         const int z = zone_holding(r.rf_hz);
         if (z < 0) {
-            a.notes.push_back("the image band (" + format_frequency(r.rf_low_hz) + " to " + format_frequency(r.rf_high_hz) +
+            a.notes.push_back("the image band (" + format_frequency(r.rf_low_hz) + " to " +
+                              format_frequency(r.rf_high_hz) +
                               ") is outside every RF window: image rejection not observable");
             break;
         }
@@ -617,6 +735,7 @@ ChainAnalysis SignalChain::analyze() const {
         po.usable_high_hz = m.zones[0].mixer.exact_high_hz();
     }
     a.check = check_plan(a.if_out, a.lines, po);
+    attribute_unexplained(a, m, rf_spectrum, zone_holding);
     if (image_line >= 0) {
         const LineResult& img = a.check.lines[static_cast<std::size_t>(image_line - 1)];
         a.image = image_rejection(image_rf_hz, a.wanted_rf_dbfs, a.check.wanted, image_rf_db, img,
@@ -632,8 +751,7 @@ ChainAnalysis SignalChain::analyze() const {
 
 void SignalChain::update(const Setup& s) {
     Impl& m = *impl_;
-    if (!(s.sources == m.setup.sources))
-        throw InputError("source: the sources changed; a new chain is needed");
+    if (!(s.sources == m.setup.sources)) throw InputError("source: the sources changed; a new chain is needed");
     const Setup old = m.setup;
     m.setup = s;
     const bool rf = !(s.rf_filter == old.rf_filter);
@@ -671,12 +789,24 @@ void SignalChain::reset() {
     m.last_block = m.if_count = 0;
 }
 
-const Setup& SignalChain::setup() const { return impl_->setup; }
-const ChainLayout& SignalChain::layout() const { return impl_->layout; }
-const BenchModel& SignalChain::model() const { return impl_->model; }
-const SignalChainCounters& SignalChain::counters() const { return impl_->counters; }
-Probe SignalChain::probe() const { return impl_->probe; }
-EnvelopeWindow SignalChain::probe_window(Probe p) const { return impl_->window_of(p); }
+const Setup& SignalChain::setup() const {
+    return impl_->setup;
+}
+const ChainLayout& SignalChain::layout() const {
+    return impl_->layout;
+}
+const BenchModel& SignalChain::model() const {
+    return impl_->model;
+}
+const SignalChainCounters& SignalChain::counters() const {
+    return impl_->counters;
+}
+Probe SignalChain::probe() const {
+    return impl_->probe;
+}
+EnvelopeWindow SignalChain::probe_window(Probe p) const {
+    return impl_->window_of(p);
+}
 
 Spectrum SignalChain::probe_spectrum() const {
     const Impl& m = *impl_;
@@ -689,15 +819,23 @@ std::span<const cf32> SignalChain::probe_samples() const {
     const Impl& m = *impl_;
     const Zone& z = m.zones[0];
     switch (m.probe) {
-        case Probe::rf_input: return {z.in.data(), m.last_block};
-        case Probe::rf_filtered: return {z.filtered ? z.filt.data() : z.in.data(), m.last_block};
-        case Probe::mixer_output: return {m.mix.data(), m.last_block};
-        case Probe::if_output: return {m.if_out.data(), m.if_count};
+        case Probe::rf_input:
+            return {z.in.data(), m.last_block};
+        case Probe::rf_filtered:
+            return {z.filtered ? z.filt.data() : z.in.data(), m.last_block};
+        case Probe::mixer_output:
+            return {m.mix.data(), m.last_block};
+        case Probe::if_output:
+            return {m.if_out.data(), m.if_count};
     }
     return {};
 }
 
-const FilterChain* SignalChain::rf_filter() const { return impl_->zones[0].filtered ? &impl_->zones[0].rf_filter : nullptr; }
-const FilterChain& SignalChain::if_chain() const { return impl_->if_chain; }
+const FilterChain* SignalChain::rf_filter() const {
+    return impl_->zones[0].filtered ? &impl_->zones[0].rf_filter : nullptr;
+}
+const FilterChain& SignalChain::if_chain() const {
+    return impl_->if_chain;
+}
 
 }  // namespace hb

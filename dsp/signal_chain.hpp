@@ -139,13 +139,15 @@ class SignalChain {
     const FilterChain* rf_filter() const;  // zone 0's, or nullptr
     const FilterChain& if_chain() const;
 
-  private:
     struct Impl;
+
+  private:
     std::unique_ptr<Impl> impl_;
 };
 
 // Expected lines of the wanted signal in a frame (used by the chain; exposed for the GUI markers and tests):
-// every product of the plan's wanted RF with the LO whose output lands inside `window`, at its frequency in the
+// every product of the plan's wanted RF with the LO (those outside `window` too: they read not observable), at its
+// frequency in the
 // mixer's output frame (real models |m·f_LO + n·f_RF|, quadrature the side the model puts it on), predicted
 // from the model at `drive_dbfs`, with the limit its kind gets. The wanted comes first.
 // `if_response` (may be empty) weighs each line by the IF chain's response relative to the wanted's.

@@ -208,9 +208,10 @@ TEST(NoiseFloor, WhiteNoiseDensityWithAndWithoutTones) {
             const Spectrum s = analyse(a, 0.0, fs, x);
             const NoiseFloor f = noise_floor(s);
             EXPECT_NEAR(f.dbfs_per_hz, density, 0.3);
-            // The profile agrees too: each block is a median over 256 correlated bins that scatters by 0.1 to
-            // 0.45 dB (1σ; most for exponential-shaped bins: one frame, or min-hold), so check its median over
-            // the span (bias) and that no block strays beyond about 4σ.
+            // The profile agrees too: each block is a median over as many correlated bins as keep it near 0.35 dB
+            // (1σ) for averaged spectra; exponential-shaped bins (one frame, or min-hold) take the widest blocks,
+            // 256 bins, and scatter by up to 0.45 dB. So check its median over the span (bias) and that no block
+            // strays beyond about 4.5σ (over some 500 blocks a 4σ excursion is not rare).
             std::vector<double> prof_db;
             for (double p : noise_floor_profile(s)) prof_db.push_back(db_from_power(p / s.rbw_hz));
             std::vector<double> sorted = prof_db;
@@ -219,7 +220,7 @@ TEST(NoiseFloor, WhiteNoiseDensityWithAndWithoutTones) {
             EXPECT_NEAR(sorted[sorted.size() / 2], density, 0.4);
             const bool exponential_shaped = c.averages == 1 || c.avg == Averaging::min_hold;
             if (!with_tones) {
-                for (double v : prof_db) ASSERT_NEAR(v, density, exponential_shaped ? 2.0 : 1.3);
+                for (double v : prof_db) ASSERT_NEAR(v, density, exponential_shaped ? 2.0 : 1.6);
             }
         }
     }

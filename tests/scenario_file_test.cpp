@@ -26,7 +26,7 @@ TEST(ScenarioFile, BundledScenarioLoads) {
     const auto sc = load_scenario((test::source_dir() / "recordings/scenarios/vhf-bench.toml").string());
     EXPECT_EQ(sc.full_scale_dbm, -10);
     EXPECT_TRUE(sc.has_adc_noise);
-    ASSERT_EQ(sc.signals.size(), 6u);
+    ASSERT_EQ(sc.signals.size(), 7u);
     EXPECT_EQ(sc.signals[0].type, SignalType::cw);
     EXPECT_DOUBLE_EQ(sc.signals[0].frequency_hz, 100.1e6);  // "100.1M"
     EXPECT_EQ(sc.signals[3].modulation, ModSource::noise);

@@ -171,7 +171,10 @@ std::string db_text(double v) {
 }
 
 // One run in this process.
-RunSummary run_one(const Setup& setup, const std::string& source_name, const std::string& stem, const VerifyArgs& a) {
+RunSummary run_one(Setup setup, const std::string& source_name, const std::string& stem, const VerifyArgs& a) {
+    // A looping recording is read once unless --seconds asks for a length: a batch run must end.
+    if (a.seconds <= 0)
+        for (SourceSpec& src : setup.sources) src.loop = false;
     PipelineOptions o;
     o.live = false;
     o.max_seconds = a.seconds;

@@ -30,7 +30,7 @@ struct PlanReport {
     std::string title;                    // e.g. the bench name
     std::string description;              // the source's own description (a recording's text, a device)
     std::string source;                   // file name or device arguments
-    std::optional<nlohmann::json> run;    // how the run went (samples, drops, notes): written as "run" in the JSON
+    std::optional<nlohmann::json> run = std::nullopt;  // how the run went (samples, drops, notes): written as "run" in the JSON
 };
 
 // pass: the wanted output was seen and nothing failed; fail: a line or the image rejection failed;

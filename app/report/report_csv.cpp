@@ -42,11 +42,16 @@ std::string plan_report_csv(const PlanReport& r) {
     line("wanted", r.check.wanted);
     for (const LineResult& l : r.check.lines) line("product", l);
     for (const UnexplainedPeak& u : r.check.unexplained)
-        out += "unexplained,,,,,," + cell(u.freq_hz) + ",," + cell(u.level_dbfs) + "," + cell(u.level_dbm) + "," +
-               cell(u.level_dbc) + ",,,,,,,," +
-               (std::isfinite(u.above_floor_db) ? csv_text(plot::fixed(u.above_floor_db, 1) + " dB above the floor")
-                                                : "") +
-               "\r\n";
+        out +=
+            "unexplained,,,,,," + cell(u.freq_hz) + ",," + cell(u.level_dbfs) + "," + cell(u.level_dbm) + "," +
+            cell(u.level_dbc) + ",,,,,,,," +
+            csv_text((std::isfinite(u.above_floor_db) ? plot::fixed(u.above_floor_db, 1) + " dB above the floor" : "") +
+                     (u.response.empty()
+                          ? ""
+                          : "; " + u.response + " response of a signal at " + plot::fixed(u.source_rf_hz, 0) + " Hz (" +
+                                plot::fixed(u.source_rf_dbfs, 1) + " dBFS at RF), rejection " +
+                                plot::fixed(u.rejection_db, 1) + " dB")) +
+            "\r\n";
     return out;
 }
 

@@ -238,11 +238,17 @@ std::string plan_report_html(const PlanReport& r) {
         o << "<p>None more than " << fixed(c.unexplained_threshold_db, 1)
           << " dB above the local floor outside the expected lines.</p>\n";
     } else {
-        o << "<table><tr><th>Frequency</th><th>Level</th><th>dBc</th><th>Above floor</th></tr>\n";
-        for (const UnexplainedPeak& u : c.unexplained)
+        o << "<table><tr><th>Frequency</th><th>Level</th><th>dBc</th><th>Above floor</th><th>Explained by</th>"
+             "<th>Rejection</th></tr>\n";
+        for (const UnexplainedPeak& u : c.unexplained) {
             o << "<tr><td class=\"num\">" << freq(u.freq_hz) << "</td><td class=\"num\">"
               << db(u.level_dbfs + offset, unit) << "</td><td class=\"num\">" << db(u.level_dbc, "dBc")
-              << "</td><td class=\"num\">" << db(u.above_floor_db, "dB") << "</td></tr>\n";
+              << "</td><td class=\"num\">" << db(u.above_floor_db, "dB") << "</td><td>";
+            if (!u.response.empty())
+                o << html_escape(u.response) << " response of the signal at " << freq(u.source_rf_hz) << " ("
+                  << db(u.source_rf_dbfs + offset, unit) << " at RF)";
+            o << "</td><td class=\"num\">" << db(u.rejection_db, "dB") << "</td></tr>\n";
+        }
         o << "</table>\n";
         if (c.unexplained_truncated) o << "<p>More peaks were found than listed.</p>\n";
     }

@@ -45,6 +45,8 @@ std::string_view verdict(const PlanReport& r) {
     for (const LineResult& l : r.check.lines)
         if (l.status == LineStatus::fail) return "fail";
     if (image_failed) return "fail";
+    for (const UnexplainedPeak& u : r.check.unexplained)
+        if (u.status == LineStatus::fail) return "fail";  // a measured spurious response below its rejection limit
     return r.check.wanted_observed() ? "pass" : "incomplete";
 }
 
@@ -92,11 +94,22 @@ nlohmann::json plan_report_json(const PlanReport& r) {
 
     nlohmann::json unexplained = nlohmann::json::array();
     for (const UnexplainedPeak& u : c.unexplained)
-        unexplained.push_back({{"freq_hz", num(u.freq_hz)},
-                               {"level_dbfs", num(u.level_dbfs)},
-                               {"level_dbm", num(u.level_dbm)},
-                               {"level_dbc", num(u.level_dbc)},
-                               {"above_floor_db", num(u.above_floor_db)}});
+        unexplained.push_back(
+            {{"freq_hz", num(u.freq_hz)},
+             {"level_dbfs", num(u.level_dbfs)},
+             {"level_dbm", num(u.level_dbm)},
+             {"level_dbc", num(u.level_dbc)},
+             {"above_floor_db", num(u.above_floor_db)},
+             {"response", u.response.empty() ? nlohmann::json()
+                                             : nlohmann::json{{"label", u.response},
+                                                              {"m", u.m},
+                                                              {"n", u.n},
+                                                              {"rf_hz", num(u.source_rf_hz)},
+                                                              {"rf_level_dbfs", num(u.source_rf_dbfs)},
+                                                              {"rejection_db", num(u.rejection_db)},
+                                                              {"in_if_band", u.in_if_band},
+                                                              {"limit_db", num(u.limit_db)},
+                                                              {"status", to_string(u.status)}}}});
     j["unexplained"] = unexplained;
     j["unexplained_truncated"] = c.unexplained_truncated;
     j["unexplained_threshold_db"] = num(c.unexplained_threshold_db);
