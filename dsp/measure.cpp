@@ -422,7 +422,22 @@ PlanCheck check_plan(const Spectrum& s, std::span<const ExpectedLine> lines, con
 
     std::vector<Observation> obs;
     obs.reserve(lines.size());
-    for (const ExpectedLine& l : lines) obs.push_back(observe(c, l));
+    const ExpectedLine& wanted_line =
+        *std::find_if(lines.begin(), lines.end(), [](const ExpectedLine& l) { return l.kind == LineKind::wanted; });
+    // A line whose search window reaches the wanted's main lobe cannot be told apart from it.
+    const double apart = opt.search_rbw * s.rbw_hz + c.r.mainlobe_halfwidth_bins * s.bin_hz();
+    for (const ExpectedLine& l : lines) {
+        if (l.kind != LineKind::wanted && std::isfinite(l.freq_hz) && std::isfinite(wanted_line.freq_hz) &&
+            std::abs(l.freq_hz - wanted_line.freq_hz) < apart) {
+            Observation o;
+            o.result.line = l;
+            o.result.note = "lands on the wanted output (" + format_frequency(wanted_line.freq_hz) +
+                            "): not measurable apart from it in this input";
+            obs.push_back(std::move(o));
+            continue;
+        }
+        obs.push_back(observe(c, l));
+    }
 
     // Peaks that are only leakage of a stronger observed line are not lines of their own: strongest first.
     std::vector<std::size_t> order(obs.size());

@@ -636,6 +636,118 @@ void attribute_unexplained(ChainAnalysis& a, const SignalChain::Impl& m, RfSpect
 
 }  // namespace
 
+namespace {
+
+PlanCheckOptions check_options(const SignalChain::Impl& m);
+
+// The two-tone test (see TwoToneResult): the tones' conversions, IM3 and IM2 lines, the intercepts.
+void analyze_two_tone(ChainAnalysis& a, const SignalChain::Impl& m) {
+    const Setup& s = m.setup;
+    TwoToneResult& r = a.two_tone;
+    r.active = true;
+    r.f1_hz = s.plan.wanted_hz - s.plan.two_tone_spacing_hz / 2;
+    r.f2_hz = s.plan.wanted_hz + s.plan.two_tone_spacing_hz / 2;
+    const double lo = m.layout.lo_hz, f1 = r.f1_hz, f2 = r.f2_hz;
+    const bool quad = m.model.mixer.model == MixerModel::quadrature;
+    const int n = wanted_conversion(lo, s.plan.wanted_hz, {s.plan.if_hz, s.plan.if_bandwidth_hz}) == 1 ? 1 : -1;
+    // Where m·LO + (RF combination) lands: a real IF shows |·|; the IQ mixer's e^{−jωt} LO puts RF − LO.
+    auto frame = [&](double rf_combination) { return quad ? rf_combination - lo : std::abs(lo + n * rf_combination); };
+    auto line = [&](std::string label, LineKind kind, double f) {
+        ExpectedLine e;
+        e.label = std::move(label);
+        e.m = 1;
+        e.n = n;
+        e.kind = kind;
+        e.freq_hz = f;
+        return e;
+    };
+    a.lines = {line("tone 1 (f1)", LineKind::wanted, frame(f1)), line("tone 2 (f2)", LineKind::spur, frame(f2)),
+               line("IM3 2f1-f2", LineKind::spur, frame(2 * f1 - f2)),
+               line("IM3 2f2-f1", LineKind::spur, frame(2 * f2 - f1)),
+               line("IM2 f1+f2", LineKind::spur, quad ? f1 + f2 - lo : std::abs(lo - f1 - f2))};
+    a.lines[4].n = -2;  // LO − (f1 + f2): through the LO fundamental, second order at the RF port
+
+    // The tones at the RF port.
+    const Spectrum& rs = a.rf;
+    if (rs.power.empty()) {
+        r.note = "no RF spectrum of the input";
+    } else {
+        const NoiseFloor fl = noise_floor(rs);
+        const double half = std::max(2.0 * rs.rbw_hz, s.plan.two_tone_spacing_hz / 8);
+        const Tone t1 = measure_tone(rs, f1 - half, f1 + half, fl.power_per_bin);
+        const Tone t2 = measure_tone(rs, f2 - half, f2 + half, fl.power_per_bin);
+        if (t1.found && t2.found && t1.power > 0 && t2.power > 0)
+            r.tone_rf_dbfs = db_from_power((t1.power + t2.power) / 2);
+        else
+            r.note = "the two tones were not found at the RF port";
+    }
+    a.wanted_rf_dbfs = r.tone_rf_dbfs;
+    a.drive_dbfs = r.tone_rf_dbfs;
+    a.check = check_plan(a.if_out, a.lines, check_options(m));
+    a.image.status = LineStatus::not_observable;
+    a.image.limit_db = s.plan.limits.image_rejection_db;
+    a.image.note = "two-tone test: the image is not measured";
+
+    const LineResult& fund1 = a.check.wanted;
+    const LineResult& fund2 = a.check.lines[0];
+    if (fund1.status != LineStatus::pass || fund2.status != LineStatus::pass || !std::isfinite(r.tone_rf_dbfs)) {
+        if (r.note.empty()) r.note = "the converted tones were not both seen at the IF output";
+        return;
+    }
+    r.fundamental_if_dbfs = db_from_power((power_from_db(fund1.level_dbfs) + power_from_db(fund2.level_dbfs)) / 2);
+    r.gain_db = r.fundamental_if_dbfs - r.tone_rf_dbfs;
+    const double to_dbm = m.layout.dbm_at_0dbfs;
+    auto level = [](const LineResult& l, bool& bound) {
+        if (l.status == LineStatus::pass) return l.level_dbfs;
+        if (l.status == LineStatus::below_floor) {
+            bound = true;
+            return l.upper_bound_dbfs;
+        }
+        return kNaN;
+    };
+    bool b_lo = false, b_hi = false;
+    r.im3_low_dbfs = level(a.check.lines[1], b_lo);
+    r.im3_high_dbfs = level(a.check.lines[2], b_hi);
+    const double im3 = std::max(r.im3_low_dbfs, r.im3_high_dbfs);  // the worse side (NaN-safe below)
+    if (std::isfinite(r.im3_low_dbfs) && std::isfinite(r.im3_high_dbfs)) {
+        r.im3_bound = r.im3_low_dbfs >= r.im3_high_dbfs ? b_lo : b_hi;
+        r.iip3_dbfs = r.tone_rf_dbfs + (r.fundamental_if_dbfs - im3) / 2;
+        r.iip3_dbm = r.iip3_dbfs + to_dbm;
+    }
+    const LineResult& im2 = a.check.lines[3];
+    r.im2_observable = im2.status != LineStatus::not_observable;
+    r.im2_dbfs = level(im2, r.im2_bound);
+    if (std::isfinite(r.im2_dbfs)) {
+        r.iip2_dbfs = r.tone_rf_dbfs + (r.fundamental_if_dbfs - r.im2_dbfs);
+        r.iip2_dbm = r.iip2_dbfs + to_dbm;
+    }
+    auto judge = [](double value, bool bound, const std::optional<double>& limit, double& limit_out) {
+        if (!limit) return std::isfinite(value) ? LineStatus::pass : LineStatus::not_observable;
+        limit_out = *limit;
+        if (!std::isfinite(value)) return LineStatus::not_observable;
+        if (value >= *limit) return LineStatus::pass;
+        return bound ? LineStatus::below_floor : LineStatus::fail;
+    };
+    r.iip3_status = judge(r.iip3_dbm, r.im3_bound, s.plan.limits.iip3_min_dbm, r.iip3_limit_dbm);
+    r.iip2_status = judge(r.iip2_dbm, r.im2_bound, s.plan.limits.iip2_min_dbm, r.iip2_limit_dbm);
+    if (r.im3_bound || r.im2_bound) r.note = "a product under the floor: its intercept is at least the value shown";
+}
+
+PlanCheckOptions check_options(const SignalChain::Impl& m) {
+    const Setup& s = m.setup;
+    PlanCheckOptions po;
+    po.lo_uncertainty_hz = std::abs(m.layout.lo_hz - m.layout.lo_nominal_hz);
+    po.usable_fraction = s.if_chain.decimation > 1 ? 0.8 : 1.0;
+    if (!m.zones[0].mixer.bypass()) {
+        // Only where the emulated IF is exact (every zone's emulator shares the output window).
+        po.usable_low_hz = m.zones[0].mixer.exact_low_hz();
+        po.usable_high_hz = m.zones[0].mixer.exact_high_hz();
+    }
+    return po;
+}
+
+}  // namespace
+
 ChainAnalysis SignalChain::analyze() const {
     const Impl& m = *impl_;
     ChainAnalysis a;
@@ -643,6 +755,10 @@ ChainAnalysis SignalChain::analyze() const {
     if (m.zones[0].rf_welch) a.rf = m.zones[0].rf_welch->read();
     const Setup& s = m.setup;
     const double wanted = s.plan.wanted_hz;
+    if (s.plan.two_tone_spacing_hz > 0 && m.model.mixer.model != MixerModel::bypass) {
+        analyze_two_tone(a, m);
+        return a;
+    }
 
     // The wanted at the RF port: measured where a window holds it.
     auto zone_holding = [&](double f) -> int {
@@ -707,7 +823,9 @@ ChainAnalysis SignalChain::analyze() const {
     if (!std::isnan(image_rf_db)) {
         const double lo = m.layout.lo_hz;
         const bool quad = m.model.mixer.model == MixerModel::quadrature;
-        const double f_if = quad ? image_rf_hz - lo : std::abs(lo - image_rf_hz);
+        // An IQ mixer tells the sides apart: the image-band signal reaches the wanted side only through the
+        // imbalance (its mirror, lo − f); its own conversion lands on the other side of 0 Hz.
+        const double f_if = quad ? lo - image_rf_hz : std::abs(lo - image_rf_hz);
         const double wanted_if = a.lines.front().freq_hz;
         if (std::abs(f_if - wanted_if) < 4 * a.if_out.rbw_hz) {
             a.notes.push_back("the image-band signal lands on the wanted output (" + format_frequency(f_if) +
@@ -726,15 +844,7 @@ ChainAnalysis SignalChain::analyze() const {
         }
     }
 
-    PlanCheckOptions po;
-    po.lo_uncertainty_hz = std::abs(m.layout.lo_hz - m.layout.lo_nominal_hz);
-    po.usable_fraction = s.if_chain.decimation > 1 ? 0.8 : 1.0;
-    if (!m.zones[0].mixer.bypass()) {
-        // Only where the emulated IF is exact (every zone's emulator shares the output window).
-        po.usable_low_hz = m.zones[0].mixer.exact_low_hz();
-        po.usable_high_hz = m.zones[0].mixer.exact_high_hz();
-    }
-    a.check = check_plan(a.if_out, a.lines, po);
+    a.check = check_plan(a.if_out, a.lines, check_options(m));
     attribute_unexplained(a, m, rf_spectrum, zone_holding);
     if (image_line >= 0) {
         const LineResult& img = a.check.lines[static_cast<std::size_t>(image_line - 1)];

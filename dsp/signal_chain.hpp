@@ -86,6 +86,30 @@ struct ChainLayout {
     double dbm_at_0dbfs = 0.0;          // RF port calibration (first source)
 };
 
+// A two-tone intermodulation test (plan.two_tone_spacing_hz > 0): two equal tones f1 < f2 at the RF port, their
+// conversions, the third-order products 2f1−f2 and 2f2−f1 and the second-order sum f1+f2 through the LO's
+// fundamental (the same conversion coefficient as the tones, so the ratios give the RF port's intercepts), and
+//     IIP3 = P_in + (P_fund − P_IM3)/2,   IIP2 = P_in + (P_fund − P_IM2)
+// with P_in the level of one tone at the RF port and P_fund, P_IM at the IF output (Razavi, RF Microelectronics,
+// 2012, §2.2; reference-values I4). A product under the floor gives a lower bound on the intercept.
+struct TwoToneResult {
+    bool active = false;
+    double f1_hz = kNaN, f2_hz = kNaN;
+    double tone_rf_dbfs = kNaN;           // mean of the two tones at the RF port
+    double gain_db = kNaN;                // IF fundamental over RF tone (conversion gain, filters included)
+    double fundamental_if_dbfs = kNaN;    // mean of the two converted tones
+    double im3_low_dbfs = kNaN, im3_high_dbfs = kNaN;  // 2f1−f2 and 2f2−f1 at the IF (or their upper bounds)
+    bool im3_bound = false;               // an IM3 product was below the floor: IIP3 is a lower bound
+    double im2_dbfs = kNaN;               // the f1+f2 product through the LO fundamental (or its upper bound)
+    bool im2_bound = false;
+    bool im2_observable = false;          // the product lands inside the analysed span
+    double iip3_dbfs = kNaN, iip3_dbm = kNaN;  // the worse of the two IM3 sides
+    double iip2_dbfs = kNaN, iip2_dbm = kNaN;
+    double iip3_limit_dbm = kNaN, iip2_limit_dbm = kNaN;
+    LineStatus iip3_status = LineStatus::not_observable, iip2_status = LineStatus::not_observable;
+    std::string note;
+};
+
 // The result of one look at the spectra.
 struct ChainAnalysis {
     Spectrum rf;                      // zone 0's RF input
@@ -95,6 +119,7 @@ struct ChainAnalysis {
     std::vector<ExpectedLine> lines;  // every expected line in the IF output (wanted first)
     PlanCheck check;
     ImageRejection image;             // not-observable when no signal sits in the image band
+    TwoToneResult two_tone;           // active in a two-tone test (then lines hold its products)
     std::vector<std::string> notes;   // why something could not be measured
 };
 

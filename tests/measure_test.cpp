@@ -407,6 +407,26 @@ TEST(PlanCheck, NoWantedOutputMeansNothingCanBeJudged) {
     EXPECT_FALSE(pc.passed());
 }
 
+TEST(PlanCheck, ALineOnTheWantedCannotBeMeasuredApart) {
+    // An audio-rate plan where 2LO − RF falls exactly on the wanted (LO 10 kHz, RF 15 kHz: 2·10 − 15 = 15 − 10 =
+    // 5 kHz, derivable): the spectrum shows one line, the wanted; the coincident product must not read 0 dBc and
+    // fail its limit, it is not observable apart from the wanted. A line 30 RBW away is measured as usual.
+    const double fs = 48e3;
+    const AnalyzerSpec a = analyzer(4096, WindowType::blackman_harris, 8);
+    const Spectrum s = analyse(
+        a, 0.0, fs, make_signal(samples_for(a, 8), fs, {{5e3, -20.0}, {5e3 + 30 * 2 * fs / 4096, -70.0}}, -150.0, 61));
+    const std::vector<ExpectedLine> lines{{"RF-LO", 1, -1, LineKind::wanted, 5e3, kNaN, kNaN},
+                                          {"2LO-RF", 2, -1, LineKind::spur, 5e3, kNaN, -40.0},
+                                          {"other", 3, -2, LineKind::spur, 5e3 + 30 * 2 * fs / 4096, kNaN, -40.0}};
+    const PlanCheck pc = check_plan(s, lines);
+    ASSERT_EQ(pc.wanted.status, LineStatus::pass);
+    EXPECT_EQ(pc.lines[0].status, LineStatus::not_observable);
+    EXPECT_NE(pc.lines[0].note.find("lands on the wanted"), std::string::npos) << pc.lines[0].note;
+    EXPECT_EQ(pc.lines[1].status, LineStatus::pass);
+    EXPECT_NEAR(pc.lines[1].level_dbc, -50.0, 0.3);
+    EXPECT_TRUE(pc.passed());
+}
+
 TEST(PlanCheck, NeedsExactlyOneWantedLine) {
     const AnalyzerSpec a = analyzer(1024, WindowType::hann, 1);
     const Spectrum s = analyse(a, 0.0, 1e6, make_signal(1024, 1e6, {}, -130.0, 70));

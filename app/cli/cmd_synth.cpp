@@ -77,6 +77,26 @@ void run_synth(const SynthArgs& a, int& rc) {
     auto src = open_soapy(spec, setup);
     const StreamInfo& info = src->info();
 
+    if (a.out.ends_with(".wav")) {
+        // A sound-card style stereo I/Q file (I left, Q right: common practice). WAV has no place for the centre
+        // frequency or the scenario: the session that plays it states frequency_hz.
+        const auto total = static_cast<std::size_t>(std::llround(a.seconds * info.sample_rate_hz));
+        std::vector<cf32> x(total);
+        std::size_t got = 0;
+        while (got < total) {
+            const ReadResult r = src->read(std::span<cf32>(x.data() + got, total - got), 1.0);
+            if (r.status == ReadStatus::error || r.status == ReadStatus::end)
+                throw InputError("synth: the generator stopped: " + r.message);
+            got += r.count;
+        }
+        write_wav(a.out, x, info.sample_rate_hz, 2, a.format == "ci16_le" ? WavEncoding::pcm16 : WavEncoding::float32);
+        std::cout << "synth: " << total << " samples of \"" << scenario.name << "\" at "
+                  << format_frequency(info.center_hz) << ", " << format_frequency(info.sample_rate_hz) << "/s\n"
+                  << "  WAV:      " << a.out << " (stereo I/Q, " << (a.format == "ci16_le" ? "PCM16" : "float32")
+                  << "; state frequency_hz = " << format_number(info.center_hz) << " in the session)\n";
+        rc = kExitOk;
+        return;
+    }
     RecorderOptions ro;
     ro.out = a.out;
     ro.datatype = a.format;
@@ -113,10 +133,12 @@ void register_synth(CLI::App& app, int& rc) {
     cmd->add_option("--frequency", a->frequency, "Centre frequency (\"1.2M\")")->required();
     cmd->add_option("--rate", a->rate, "Sample rate (\"2.4M\")")->required();
     cmd->add_option("--seconds", a->seconds, "Duration in seconds of stream")->required();
-    cmd->add_option("--out", a->out, "Output name: NAME.sigmf-meta and NAME.sigmf-data")->required();
+    cmd->add_option("--out", a->out, "Output name: NAME.sigmf-meta and NAME.sigmf-data, or NAME.wav (stereo I/Q)")
+        ->required();
     cmd->add_option("--gain", a->gain_db, "Receiver gain in dB (dBFS = dBm - full_scale_dbm + gain; default 0)");
     cmd->add_option("--seed", a->seed, "Seed of every random process in the world (default 1)");
-    cmd->add_option("--format", a->format, "Output datatype")->check(CLI::IsMember({"cf32_le", "ci16_le"}));
+    cmd->add_option("--format", a->format, "Output datatype (WAV: ci16_le writes PCM16, cf32_le float)")
+        ->check(CLI::IsMember({"cf32_le", "ci16_le"}));
     cmd->callback([a, &rc] { run_synth(*a, rc); });
 }
 

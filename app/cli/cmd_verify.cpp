@@ -195,8 +195,15 @@ RunSummary run_one(Setup setup, const std::string& source_name, const std::strin
     if (st.failed) throw InputError(source_name + ": " + st.error);
     if (st.samples_processed == 0) throw InputError(source_name + ": the source delivered no samples");
     const ChainAnalysis an = p->final_analysis();
-    PlanReport r{
-        setup, an.if_out, an.check, an.image, setup.bench.name, st.source, source_name, run_json(st, an, elapsed())};
+    PlanReport r{setup,
+                 an.if_out,
+                 an.check,
+                 an.image,
+                 setup.bench.name,
+                 st.source,
+                 source_name,
+                 an.two_tone.active ? std::optional<TwoToneResult>(an.two_tone) : std::nullopt,
+                 run_json(st, an, elapsed())};
     const ReportPaths paths = write_plan_reports(r, a.out, stem);
     RunSummary s = summarise(r, paths.html, stem);
     if (!a.quiet) {
@@ -219,6 +226,13 @@ RunSummary run_one(Setup setup, const std::string& source_name, const std::strin
             if (l.status == LineStatus::fail)
                 std::cout << "    fail: " << l.line.label << " at " << format_frequency(l.line.freq_hz) << " "
                           << db_text(l.level_dbc) << " dBc, limit " << db_text(l.line.limit_dbc) << " dBc\n";
+        if (an.two_tone.active) {
+            const TwoToneResult& t = an.two_tone;
+            std::cout << "  two-tone " << format_frequency(t.f1_hz) << " + " << format_frequency(t.f2_hz) << ": IIP3 "
+                      << (t.im3_bound ? ">= " : "") << db_text(t.iip3_dbm) << " dBm (" << to_string(t.iip3_status)
+                      << "), IIP2 " << (t.im2_bound ? ">= " : "") << db_text(t.iip2_dbm) << " dBm ("
+                      << to_string(t.iip2_status) << ")\n";
+        }
         if (st.non_finite) std::cout << "  " << st.non_finite << " NaN/Inf input samples replaced by 0\n";
         std::cout << "  report   " << paths.html.string() << " (and .json, .csv, .png)\n";
     }

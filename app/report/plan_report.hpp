@@ -16,6 +16,7 @@
 
 #include "dsp/measure.hpp"
 #include "dsp/setup.hpp"
+#include "dsp/signal_chain.hpp"
 #include "dsp/spectrum.hpp"
 
 namespace hb {
@@ -30,6 +31,7 @@ struct PlanReport {
     std::string title;                    // e.g. the bench name
     std::string description;              // the source's own description (a recording's text, a device)
     std::string source;                   // file name or device arguments
+    std::optional<TwoToneResult> two_tone = std::nullopt;  // a two-tone test's intercepts
     std::optional<nlohmann::json> run = std::nullopt;  // how the run went (samples, drops, notes): written as "run" in the JSON
 };
 

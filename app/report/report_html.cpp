@@ -265,6 +265,22 @@ std::string plan_report_html(const PlanReport& r) {
         o << "<p>Not measured in this run (no image-band signal).</p>\n";
     }
 
+    if (r.two_tone) {
+        const TwoToneResult& t = *r.two_tone;
+        o << "<h2>Two-tone test</h2>\n<table><tr><th>Tones</th><th>Per tone at RF</th><th>Gain</th><th>IM3 low / high"
+             "</th><th>IM2 (f1+f2)</th><th>IIP3</th><th>IIP2</th></tr><tr><td class=\"num\">"
+          << freq(t.f1_hz) << ", " << freq(t.f2_hz) << "</td><td class=\"num\">" << db(t.tone_rf_dbfs + offset, unit)
+          << "</td><td class=\"num\">" << db(t.gain_db, "dB") << "</td><td class=\"num\">"
+          << db(t.im3_low_dbfs + offset, unit) << " / " << db(t.im3_high_dbfs + offset, unit)
+          << "</td><td class=\"num\">" << (t.im2_bound ? "< " : "") << db(t.im2_dbfs + offset, unit)
+          << "</td><td class=\"num\">" << (t.im3_bound ? "≥ " : "") << db(t.iip3_dbm, "dBm") << " ("
+          << html_escape(to_string(t.iip3_status)) << ")</td><td class=\"num\">" << (t.im2_bound ? "≥ " : "")
+          << db(t.iip2_dbm, "dBm") << " (" << html_escape(to_string(t.iip2_status))
+          << ")</td></tr></table>\n<p>IIP3 = P_in + (P_fund − P_IM3)/2 and "
+             "IIP2 = P_in + (P_fund − P_IM2), P_in per tone at the RF port. "
+          << html_escape(t.note) << "</p>\n";
+    }
+
     o << "<h2>Setup</h2>\n<details><summary>Full setup (JSON)</summary><pre>"
       << html_escape(setup_to_json(r.setup).dump(2, ' ', false, nlohmann::json::error_handler_t::replace))
       << "</pre></details>\n";

@@ -47,6 +47,8 @@ std::string_view verdict(const PlanReport& r) {
     if (image_failed) return "fail";
     for (const UnexplainedPeak& u : r.check.unexplained)
         if (u.status == LineStatus::fail) return "fail";  // a measured spurious response below its rejection limit
+    if (r.two_tone && (r.two_tone->iip3_status == LineStatus::fail || r.two_tone->iip2_status == LineStatus::fail))
+        return "fail";
     return r.check.wanted_observed() ? "pass" : "incomplete";
 }
 
@@ -143,6 +145,28 @@ nlohmann::json plan_report_json(const PlanReport& r) {
          "(chi-square with Welch's equivalent degrees of freedom, or the order statistics for holds), "
          "second pass without bins above the 99.9 % noise quantile"},
     };
+    if (r.two_tone) {
+        const TwoToneResult& t = *r.two_tone;
+        j["two_tone"] = {{"f1_hz", num(t.f1_hz)},
+                         {"f2_hz", num(t.f2_hz)},
+                         {"tone_rf_dbfs", num(t.tone_rf_dbfs)},
+                         {"gain_db", num(t.gain_db)},
+                         {"fundamental_if_dbfs", num(t.fundamental_if_dbfs)},
+                         {"im3_low_dbfs", num(t.im3_low_dbfs)},
+                         {"im3_high_dbfs", num(t.im3_high_dbfs)},
+                         {"im3_upper_bound", t.im3_bound},
+                         {"im2_dbfs", num(t.im2_dbfs)},
+                         {"im2_upper_bound", t.im2_bound},
+                         {"iip3_dbfs", num(t.iip3_dbfs)},
+                         {"iip3_dbm", num(t.iip3_dbm)},
+                         {"iip3_limit_dbm", num(t.iip3_limit_dbm)},
+                         {"iip3_status", to_string(t.iip3_status)},
+                         {"iip2_dbfs", num(t.iip2_dbfs)},
+                         {"iip2_dbm", num(t.iip2_dbm)},
+                         {"iip2_limit_dbm", num(t.iip2_limit_dbm)},
+                         {"iip2_status", to_string(t.iip2_status)},
+                         {"note", t.note}};
+    }
     if (r.run) j["run"] = *r.run;
     j["setup"] = setup_to_json(r.setup);
     return j;
