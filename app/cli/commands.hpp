@@ -23,5 +23,7 @@ void register_gui(CLI::App& app, int& rc);
 void register_bench(CLI::App& app, int& rc);
 void register_synth(CLI::App& app, int& rc);
 void register_verify(CLI::App& app, int& rc);
+void register_soak(CLI::App& app, int& rc);
+void register_sweep(CLI::App& app, int& rc);
 
 }  // namespace hb::cli

@@ -14,6 +14,8 @@ void register_all(CLI::App& app, int& rc) {
     register_bench(app, rc);
     register_synth(app, rc);
     register_verify(app, rc);
+    register_soak(app, rc);
+    register_sweep(app, rc);
 }
 
 }  // namespace hb::cli

@@ -159,7 +159,7 @@ struct Pipeline::Impl {
     // Status kept by the DSP thread.
     std::atomic<std::uint64_t> processed{0}, frames{0}, non_finite{0};
     mutable std::mutex lanes_mutex;  // other threads read lanes (status); only the DSP thread replaces them
-    std::atomic<double> load{0.0};
+    std::atomic<double> load{0.0}, analysis_ms{0.0};
     mutable std::mutex status_mutex;
     std::string dsp_error;
     bool failed = false;
@@ -193,7 +193,11 @@ struct Pipeline::Impl {
                 throw InputError("source[" + std::to_string(k) + "]: " + e.what());
             }
             l->info = l->source->info();
-            l->ring = std::make_unique<SpscRing<Block>>(opt.ring_blocks, make_block(opt.block_samples));
+            // At least ring_seconds of stream, so a plan check (tens of ms on a 65536-point spectrum) fits.
+            const auto by_time = static_cast<std::size_t>(
+                std::ceil(opt.ring_seconds * l->info.sample_rate_hz / static_cast<double>(opt.block_samples)));
+            l->ring = std::make_unique<SpscRing<Block>>(std::max(opt.ring_blocks, std::min<std::size_t>(by_time, 4096)),
+                                                        make_block(opt.block_samples));
             out.push_back(std::move(l));
         }
         return out;
@@ -406,7 +410,9 @@ struct Pipeline::Impl {
         f.scope.assign(p.end() - static_cast<std::ptrdiff_t>(n), p.end());
         f.scope_rate_hz = chain.probe_window(f.probe).sample_rate_hz;
         if (with_analysis) {
+            const auto t0 = Clock::now();
             last_analysis = chain.analyze();
+            analysis_ms.store(1e3 * seconds_since(t0));
             have_analysis = true;
             ++analysis_sequence;
             analysis_version = setup_version.load();
@@ -425,6 +431,7 @@ struct Pipeline::Impl {
 
     void dsp_loop() {
         auto last_frame = Clock::now(), last_analysis_t = Clock::now();
+        double overhead_s = 0.0;  // publishing time since the last block, charged to the next block's load
         double load_ema = 0.0;
         const double max_samples = opt.max_seconds > 0 ? opt.max_seconds * lanes[0]->info.sample_rate_hz : 0.0;
         std::vector<std::span<const cf32>> spans;
@@ -458,7 +465,8 @@ struct Pipeline::Impl {
                 }
                 if (opt.test_dsp_delay_s > 0)
                     std::this_thread::sleep_for(std::chrono::duration<double>(opt.test_dsp_delay_s));
-                const double busy = seconds_since(t0);
+                const double busy = seconds_since(t0) + overhead_s;  // the frames and checks count too
+                overhead_s = 0.0;
                 const double stream = static_cast<double>(n) / p.info.sample_rate_hz;
                 load_ema = load_ema == 0.0 ? busy / stream : 0.9 * load_ema + 0.1 * busy / stream;
                 load.store(load_ema);
@@ -468,7 +476,9 @@ struct Pipeline::Impl {
                 if (max_samples > 0 && static_cast<double>(processed.load()) >= max_samples) break;
                 if (opt.live && seconds_since(last_frame) >= opt.frame_interval_s) {
                     const bool a = seconds_since(last_analysis_t) >= opt.analysis_interval_s;
+                    const auto tp = Clock::now();
                     publish(a);
+                    overhead_s += seconds_since(tp);
                     last_frame = Clock::now();
                     if (a) last_analysis_t = last_frame;
                 }
@@ -500,6 +510,7 @@ struct Pipeline::Impl {
         s.non_finite = non_finite.load();
         s.frames = frames.load();
         s.dsp_load = load.load();
+        s.analysis_ms = analysis_ms.load();
         s.sample_rate_hz = p.info.sample_rate_hz;
         s.center_hz = p.info.center_hz;
         s.stream_time_s = static_cast<double>(s.samples_processed) / p.info.sample_rate_hz;

@@ -41,7 +41,8 @@ struct PipelineOptions {
     bool live = true;                      // see above; false: batch (headless)
     bool pace_recordings = true;           // live mode only: recordings play at their own rate
     std::size_t block_samples = 16384;     // samples per ring slot
-    std::size_t ring_blocks = 32;          // slots per source ring
+    std::size_t ring_blocks = 32;          // slots per source ring, at least
+    double ring_seconds = 0.25;            // ... and at least this much stream (up to 4096 slots)
     double frame_interval_s = 1.0 / 30.0;  // wall time between published spectrum frames (live)
     double analysis_interval_s = 0.25;     // wall time between plan checks in live frames
     std::size_t scope_samples = 2048;      // time-domain samples of the probe kept in a frame
@@ -66,7 +67,8 @@ struct PipelineStatus {
     std::uint64_t non_finite = 0;  // NaN/Inf input samples replaced
     std::uint64_t reopens = 0;     // successful reopens after a failure
     std::uint64_t frames = 0;      // frames published
-    double dsp_load = 0.0;         // processing time over stream time (1 = 100 % of real time), smoothed
+    double dsp_load = 0.0;         // DSP thread's busy time (chain, frames, checks) over stream time, smoothed
+    double analysis_ms = 0.0;      // wall time of the last plan check (spectra read, lines measured)
     double stream_time_s = 0.0;    // primary stream time processed
     double sample_rate_hz = 0.0;   // primary source
     double center_hz = 0.0;
