@@ -150,6 +150,7 @@ TEST(Pipeline, SlowDspMakesDropsRiseInsteadOfBlockingTheReader) {
     o.live = true;
     o.block_samples = 4096;
     o.ring_blocks = 4;
+    o.ring_seconds = 0.0;  // exactly 4 slots
     o.test_dsp_delay_s = 0.02;  // 20 ms per 1.7 ms block: far behind real time
     auto p = Pipeline::start(generator_setup(d, "throttle=false"), o);
     ASSERT_TRUE(eventually([&] {
