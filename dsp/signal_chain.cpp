@@ -55,25 +55,6 @@ struct Zone {
     std::vector<cf32> in, filt, out;  // max_block each
 };
 
-LineKind line_kind(ProductKind k) {
-    switch (k) {
-        case ProductKind::wanted:
-            return LineKind::wanted;
-        case ProductKind::image:
-            return LineKind::image;
-        case ProductKind::half_if:
-            return LineKind::half_if;
-        case ProductKind::if_feedthrough:
-            return LineKind::if_feedthrough;
-        case ProductKind::lo_feedthrough:
-            return LineKind::lo_feedthrough;
-        case ProductKind::rf_feedthrough:
-            return LineKind::rf_feedthrough;
-        case ProductKind::spur:
-            return LineKind::spur;
-    }
-    return LineKind::spur;
-}
 
 FilterModel default_loader(const FilterSpec& spec, const std::string& key, const std::optional<EnvelopeWindow>& w) {
     ModelOptions o;
@@ -93,6 +74,26 @@ Injection effective_injection(const Setup& s, double lo_hz) {
 }
 
 }  // namespace
+
+LineKind line_kind(ProductKind k) {
+    switch (k) {
+        case ProductKind::wanted:
+            return LineKind::wanted;
+        case ProductKind::image:
+            return LineKind::image;
+        case ProductKind::half_if:
+            return LineKind::half_if;
+        case ProductKind::if_feedthrough:
+            return LineKind::if_feedthrough;
+        case ProductKind::lo_feedthrough:
+            return LineKind::lo_feedthrough;
+        case ProductKind::rf_feedthrough:
+            return LineKind::rf_feedthrough;
+        case ProductKind::spur:
+            return LineKind::spur;
+    }
+    return LineKind::spur;
+}
 
 std::string_view to_string(Probe p) {
     for (const auto& [v, n] : kProbeNames)

@@ -45,6 +45,9 @@ using cf32 = std::complex<float>;
 
 enum class Probe { rf_input, rf_filtered, mixer_output, if_output };
 std::string_view to_string(Probe p);  // rf-input, rf-filtered, mixer-output, if-output
+
+// The plan check's kind of line for a product of the plan engine.
+LineKind line_kind(ProductKind k);
 bool parse(std::string_view text, Probe& out);
 
 // One source as it arrives at the RF port.

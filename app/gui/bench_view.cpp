@@ -80,25 +80,6 @@ std::string limit_line(double limit, LineStatus st, double margin) {
 
 }  // namespace
 
-LineKind line_kind_of(ProductKind k) {
-    switch (k) {
-        case ProductKind::wanted:
-            return LineKind::wanted;
-        case ProductKind::image:
-            return LineKind::image;
-        case ProductKind::half_if:
-            return LineKind::half_if;
-        case ProductKind::if_feedthrough:
-            return LineKind::if_feedthrough;
-        case ProductKind::lo_feedthrough:
-            return LineKind::lo_feedthrough;
-        case ProductKind::rf_feedthrough:
-            return LineKind::rf_feedthrough;
-        case ProductKind::spur:
-            return LineKind::spur;
-    }
-    return LineKind::spur;
-}
 
 const char* kind_name(LineKind k) {
     switch (k) {
@@ -282,7 +263,7 @@ MarkerSet markers_for_rf(const PlanViews& v, double lo_hz, double low_hz, double
         k.m = r.m;
         k.n = r.n;
         k.order = r.order;
-        k.kind = line_kind_of(r.kind);
+        k.kind = line_kind(r.kind);
         k.freq_hz = r.rf_hz;
         k.band_low_hz = r.rf_low_hz;
         k.band_high_hz = r.rf_high_hz;
@@ -330,7 +311,7 @@ MarkerSet markers_predicted(const PlanViews& v, double low_hz, double high_hz) {
         k.m = p.m;
         k.n = p.n;
         k.order = p.order;
-        k.kind = line_kind_of(p.kind);
+        k.kind = line_kind(p.kind);
         k.freq_hz = f;
         k.predicted_dbc = k.kind == LineKind::wanted ? 0.0 : p.predicted_dbc;
         k.limit_dbc = limit_dbc_for(k.kind, v.setup.plan.limits);

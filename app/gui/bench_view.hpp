@@ -79,8 +79,6 @@ struct MarkerSet {
     std::string note;  // what the markers are ("plan check at the IF output, 0.3 s ago", ...)
 };
 
-// Line kind of a plan product.
-LineKind line_kind_of(ProductKind k);
 // The trade name of a kind for the window: "wanted", "image", "½IF", "IF feedthrough", ...
 const char* kind_name(LineKind k);
 const char* status_name(LineStatus s);  // "pass", "FAIL", "below floor", "not observable"
