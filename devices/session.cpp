@@ -18,76 +18,12 @@
 namespace hb {
 namespace {
 
-// All problems of one file, each with its line when known.
-struct Problems {
-    std::string file;
-    std::vector<std::pair<int, std::string>> items;  // (line or 0, "key: message")
-    std::map<std::string, int> key_lines;            // where each key was read, for validation messages
-
-    void add(int line, const std::string& key, const std::string& message) {
-        items.emplace_back(line, key.empty() ? message : key + ": " + message);
-    }
-};
-
-int line_of(const toml::value& v) {
-    const auto loc = v.location();
-    return loc.line() > 0 ? static_cast<int>(loc.line()) : 0;
-}
-
-std::string describe(const toml::value& v) {
-    switch (v.type()) {
-        case toml::value_t::boolean:
-            return v.as_boolean() ? "true (a boolean)" : "false (a boolean)";
-        case toml::value_t::integer:
-            return std::to_string(v.as_integer()) + " (an integer)";
-        case toml::value_t::floating:
-            return format_number(v.as_floating()) + " (a number)";
-        case toml::value_t::string:
-            return toml_quote(v.as_string().str) + " (a string)";
-        case toml::value_t::array:
-            return "an array";
-        case toml::value_t::table:
-            return "a table";
-        default:
-            return "a date/time";
-    }
-}
-
-// One TOML table being read: remembers which keys were used so the rest can be reported as unknown.
-struct TableReader {
-    const toml::value& table;
-    std::string path;  // key path prefix, e.g. "mixer.lo"
-    Problems& problems;
-    std::set<std::string> used;
-
-    std::string key_path(const std::string& key) const { return path.empty() ? key : path + "." + key; }
-
-    const toml::value* find(const std::string& key) {
-        used.insert(key);
-        const auto& t = table.as_table();
-        auto it = t.find(key);
-        if (it == t.end()) return nullptr;
-        problems.key_lines[key_path(key)] = line_of(it->second);
-        return &it->second;
-    }
-
-    void bad(const toml::value& v, const std::string& key, const std::string& expected) {
-        problems.add(line_of(v), key_path(key), "got " + describe(v) + ", expected " + expected);
-    }
-
-    void missing(const std::string& key, const std::string& what) {
-        problems.add(line_of(table), key_path(key), "missing required key (" + what + ")");
-    }
-
-    // Reports keys nobody asked for, sorted so messages are stable.
-    void finish(const std::string& allowed) {
-        std::vector<std::pair<std::string, int>> unknown;
-        for (const auto& [k, v] : table.as_table())
-            if (!used.count(k)) unknown.emplace_back(k, line_of(v));
-        std::sort(unknown.begin(), unknown.end());
-        for (const auto& [k, line] : unknown) problems.add(line, key_path(k), "unknown key; allowed here: " + allowed);
-    }
-};
+// The shared TOML reading habits (devices/toml_reader.hpp): problems with file, line and key path, unknown keys.
+using toml_reader::line_of;
+using toml_reader::Problems;
+using toml_reader::sub_table;
+using toml_reader::table_array;
+using TableReader = toml_reader::Table;
 
 std::string join_keys(std::initializer_list<const char*> keys) {
     std::string s;
@@ -103,34 +39,11 @@ enum class NumberKind { plain, frequency };
 // A number: integer or float, finite. Frequencies may also be strings with a unit ("10.7M", "455 kHz").
 bool read_double(TableReader& t, const std::string& key, double& out, std::string_view unit,
                  NumberKind kind = NumberKind::plain) {
-    const toml::value* v = t.find(key);
-    if (!v) return false;
-    double x = 0;
-    if (v->is_integer()) {
-        x = static_cast<double>(v->as_integer());
-    } else if (v->is_floating()) {
-        x = v->as_floating();
-    } else if (v->is_string() && kind == NumberKind::frequency) {
-        auto f = parse_frequency(v->as_string().str);
-        if (!f) {
-            t.bad(*v, key, "a frequency in Hz (a number, or text such as \"10.7M\" or \"455 kHz\")");
-            return false;
-        }
-        x = *f;
-    } else {
-        t.bad(*v, key, std::string("a number") + (unit.empty() ? "" : " in " + std::string(unit)));
-        return false;
-    }
-    if (!std::isfinite(x)) {
-        t.bad(*v, key, std::string("a finite number") + (unit.empty() ? "" : " in " + std::string(unit)));
-        return false;
-    }
-    out = x;
-    return true;
+    return kind == NumberKind::frequency ? t.frequency(key, out) : t.number(key, out, unit);
 }
 
 bool read_freq(TableReader& t, const std::string& key, double& out) {
-    return read_double(t, key, out, "Hz", NumberKind::frequency);
+    return t.frequency(key, out);
 }
 
 void read_opt_double(TableReader& t, const std::string& key, std::optional<double>& out, std::string_view unit,
@@ -143,108 +56,33 @@ void read_opt_freq(TableReader& t, const std::string& key, std::optional<double>
     read_opt_double(t, key, out, "Hz", NumberKind::frequency);
 }
 
-bool read_int(TableReader& t, const std::string& key, long long& out) {
-    const toml::value* v = t.find(key);
-    if (!v) return false;
-    if (!v->is_integer()) {
-        t.bad(*v, key, "an integer");
-        return false;
-    }
-    out = v->as_integer();
-    return true;
-}
-
-// Ints that the Setup keeps as int: the range check against the validator's limits happens there;
-// here only what cannot even be represented is refused.
+// Ints that the Setup keeps as int: the range check against the validator's limits happens there; the reader
+// refuses only what cannot even be represented.
 void read_int(TableReader& t, const std::string& key, int& out) {
-    long long x = 0;
-    if (!read_int(t, key, x)) return;
-    if (x < std::numeric_limits<int>::min() || x > std::numeric_limits<int>::max()) {
-        t.problems.add(t.problems.key_lines[t.key_path(key)], t.key_path(key),
-                       "got " + std::to_string(x) + ", which is far outside the allowed range");
-        return;
-    }
-    out = static_cast<int>(x);
+    t.integer(key, out);
 }
 
 void read_opt_int(TableReader& t, const std::string& key, std::optional<int>& out) {
     int x = 0;
-    const std::size_t before = t.problems.items.size();
-    if (t.table.as_table().count(key) == 0) {
-        t.used.insert(key);
-        return;
-    }
-    read_int(t, key, x);
-    if (t.problems.items.size() == before) out = x;
+    if (t.integer(key, x)) out = x;
 }
 
 bool read_string(TableReader& t, const std::string& key, std::string& out) {
-    const toml::value* v = t.find(key);
-    if (!v) return false;
-    if (!v->is_string()) {
-        t.bad(*v, key, "a string");
-        return false;
-    }
-    out = v->as_string().str;
-    return true;
+    return t.string(key, out);
 }
-
 bool read_bool(TableReader& t, const std::string& key, bool& out) {
-    const toml::value* v = t.find(key);
-    if (!v) return false;
-    if (!v->is_boolean()) {
-        t.bad(*v, key, "true or false");
-        return false;
-    }
-    out = v->as_boolean();
-    return true;
+    return t.boolean(key, out);
 }
 
 template <class E>
 bool read_enum(TableReader& t, const std::string& key, E& out) {
-    const toml::value* v = t.find(key);
-    if (!v) return false;
-    if (!v->is_string() || !parse(v->as_string().str, out)) {
-        t.bad(*v, key, "one of " + allowed_names<E>());
-        return false;
-    }
-    return true;
-}
-
-// A sub-table such as [mixer.lo]; nullptr when absent, an error when present but not a table.
-const toml::value* sub_table(TableReader& t, const std::string& key) {
-    const toml::value* v = t.find(key);
-    if (!v) return nullptr;
-    if (!v->is_table()) {
-        t.bad(*v, key, "a table ([" + t.key_path(key) + "])");
-        return nullptr;
-    }
-    return v;
-}
-
-// An array of tables such as [[source]]; a single table is refused with a hint.
-std::vector<const toml::value*> table_array(TableReader& t, const std::string& key) {
-    std::vector<const toml::value*> out;
-    const toml::value* v = t.find(key);
-    if (!v) return out;
-    if (!v->is_array()) {
-        t.bad(*v, key, "an array of tables: write [[" + key + "]]");
-        return out;
-    }
-    for (const auto& item : v->as_array()) {
-        if (!item.is_table()) {
-            t.bad(item, key, "a table in the [[" + key + "]] array");
-            continue;
-        }
-        out.push_back(&item);
-    }
-    return out;
+    return t.enumeration(key, out);
 }
 
 void read_bench(TableReader& t, BenchInfo& b) {
     read_string(t, "name", b.name);
     long long seed = 0;
-    if (read_int(t, "seed", seed)) {
+    if (t.integer("seed", seed)) {
         if (seed < 0) {
             t.problems.add(t.problems.key_lines["bench.seed"], "bench.seed",
                            "got " + std::to_string(seed) + ", expected an integer of 0 or more");
@@ -427,15 +265,6 @@ std::string folder_of(const std::string& path) {
     return p.has_parent_path() ? p.parent_path().string() : std::string();
 }
 
-[[noreturn]] void throw_problems(const Problems& pr) {
-    std::vector<std::pair<int, std::string>> items = pr.items;
-    std::stable_sort(items.begin(), items.end(), [](const auto& a, const auto& b) { return a.first < b.first; });
-    std::string msg = pr.file + ": " + std::to_string(items.size()) + " problem" + (items.size() == 1 ? "" : "s");
-    for (const auto& [line, text] : items)
-        msg += "\n  " + pr.file + (line > 0 ? ":" + std::to_string(line) : "") + ": " + text;
-    throw InputError(msg);
-}
-
 }  // namespace
 
 Setup parse_session(std::string_view text, const std::string& name) {
@@ -502,13 +331,8 @@ Setup parse_session(std::string_view text, const std::string& name) {
     top.finish("[bench], [[source]], [rf_filter], [mixer], [[if_filter]], [if_chain], [analyzer], [plan], [sweep]");
 
     // Value and consistency checks only make sense once every key was read cleanly.
-    if (pr.items.empty()) {
-        for (const SetupProblem& p : validate(s)) {
-            auto it = pr.key_lines.find(p.key);
-            pr.add(it == pr.key_lines.end() ? 0 : it->second, p.key, p.message);
-        }
-    }
-    if (!pr.items.empty()) throw_problems(pr);
+    if (pr.items.empty()) pr.add_validation(validate(s));
+    pr.throw_if_any();
     return s;
 }
 
