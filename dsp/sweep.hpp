@@ -7,6 +7,8 @@
 // and the tone's output inside the IF passband is measured. The spurious-response rejection of a tone is the
 // wanted's conversion gain over the tone's:
 //     rejection_db = (wanted_IF − wanted_RF) − (tone_IF − tone_RF)        (dBFS at both ports)
+// The wanted and the tone run one at a time (the figure is a ratio of conversion gains, as the equal-output
+// method defines it), so products of the wanted with the tone (blocking, reciprocal mixing) are not part of it.
 // Two methods (sweep.method):
 //   fixed-level   the tone at sweep.tone_dbfs (default the reference): one run per tone.
 //   equal-output  the tone is raised (or lowered) until its IF output equals the wanted's; the rejection is then

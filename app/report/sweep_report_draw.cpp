@@ -85,25 +85,20 @@ std::string svg_plot(const Layout& p) {
               << "\" stroke-width=\"3\"><title>image rejection limit " << fixed(m.limit_db, 1)
               << " dB</title></line>\n";
 
-    // The grid: measured runs in the trace colour, lower bounds (nothing seen in the passband) in grey.
-    auto path = [&](bool bounds, Rgb colour, const char* extra) {
-        o << "<path fill=\"none\" stroke=\"" << css(colour) << "\" " << extra << " d=\"";
-        bool pen = false;
-        for (std::size_t i = 0; i < p.trace.size(); ++i) {
-            const auto& t = p.trace[i];
-            const bool mine = t.bound == bounds;
-            const bool next_mine = i + 1 < p.trace.size() && p.trace[i + 1].bound == bounds;
-            if (!mine && !(pen && !next_mine)) {
-                pen = false;
-                continue;
-            }
-            o << (pen ? "L" : "M") << fixed(X(t.f_hz), 1) << " " << fixed(Y(t.db), 1) << " ";
-            pen = mine;
+    // The grid, segment by segment: in the trace colour where either end was measured, grey between two lower
+    // bounds (nothing seen in the passband at either point).
+    for (const bool bounds : {true, false}) {
+        o << "<path fill=\"none\" stroke=\"" << css(bounds ? plot::kFloor : plot::kTrace) << "\" stroke-width=\""
+          << (bounds ? "1" : "1.2") << "\" d=\"";
+        for (std::size_t i = 1; i < p.trace.size(); ++i) {
+            const auto& a = p.trace[i - 1];
+            const auto& b = p.trace[i];
+            if ((a.bound && b.bound) != bounds) continue;
+            o << "M" << fixed(X(a.f_hz), 1) << " " << fixed(Y(a.db), 1) << "L" << fixed(X(b.f_hz), 1) << " "
+              << fixed(Y(b.db), 1);
         }
         o << "\"/>\n";
-    };
-    path(true, plot::kFloor, "stroke-width=\"1\"");
-    path(false, plot::kTrace, "stroke-width=\"1.2\"");
+    }
 
     for (const auto& m : p.markers) {
         const std::string c = css(colour_of(m));
@@ -118,9 +113,12 @@ std::string svg_plot(const Layout& p) {
               << c << "\"/>";
         else
             o << "<circle cx=\"" << fixed(x, 1) << "\" cy=\"" << fixed(y, 1) << "\" r=\"3.5\" fill=\"" << c << "\"/>";
-        if (m.labelled)
-            o << "<text x=\"" << fixed(x + 5, 1) << "\" y=\"" << fixed(std::max<double>(kTop + 10, y - 7), 1)
-              << "\" fill=\"" << c << "\">" << html_escape(m.label) << "</text>";
+        if (m.labelled) {
+            const bool right_edge = x > kLeft + kPw - 60;  // labels near the right edge go left of the marker
+            o << "<text x=\"" << fixed(right_edge ? x - 5 : x + 5, 1) << "\" y=\""
+              << fixed(std::max<double>(kTop + 10, y - 7), 1) << "\" fill=\"" << c << "\""
+              << (right_edge ? " text-anchor=\"end\"" : "") << ">" << html_escape(m.label) << "</text>";
+        }
         o << "</g>\n";
     }
     o << "</svg>\n";
@@ -352,6 +350,16 @@ std::vector<std::uint8_t> sweep_report_png(const SweepReport& r, int width, int 
     }
     text(cv, left + pw - text_width(p.x_label, scale), top + ph + 8 + 10 * scale, p.x_label, plot::kInk, scale);
     text(cv, left, top - 10 * scale - 4, "rejection (dB)", plot::kInk, scale);
+    // A legend under the plot, left: what the two trace colours and the orange marks are.
+    int lx = left;
+    for (const auto& [name, colour] : {std::pair<const char*, Rgb>{"measured", plot::kTrace},
+                                       std::pair<const char*, Rgb>{"lower bound", plot::kFloor},
+                                       std::pair<const char*, Rgb>{"limit", plot::kLimit}}) {
+        const int ly = top + ph + 8 + 10 * scale;
+        cv.rect(lx, ly + 2 * scale, lx + 8 * scale, ly + 5 * scale, colour);
+        text(cv, lx + 11 * scale, ly, name, plot::kInk, scale);
+        lx += 11 * scale + text_width(name, scale) + 14 * scale;
+    }
     const std::string v(r.result.verdict());
     const std::string title = r.title.empty() ? std::string("sweep") : r.title;
     const Rgb vc = v == "pass" ? plot::kPass : v == "fail" ? plot::kFail : plot::kBelow;
@@ -377,7 +385,11 @@ std::vector<std::uint8_t> sweep_report_png(const SweepReport& r, int width, int 
         } else {
             cv.rect(x - 3, y - 3, x + 3, y + 3, c);
         }
-        if (m.labelled) text(cv, x + 5, std::max(top + 2, y - 8 * scale - 6), m.label, c, scale);
+        if (m.labelled) {
+            const int tw = text_width(m.label, scale);
+            const int tx = x + 5 + tw < left + pw ? x + 5 : x - 5 - tw;  // left of the marker at the right edge
+            text(cv, tx, std::max(top + 2, y - 8 * scale - 6), m.label, c, scale);
+        }
     }
     cv.line(left - 1, top - 1, left + pw, top - 1, plot::kInk);
     cv.line(left - 1, top + ph, left + pw, top + ph, plot::kInk);
