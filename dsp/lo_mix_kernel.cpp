@@ -1,6 +1,8 @@
 #include "dsp/lo_mix_kernel.hpp"
 
 #include <algorithm>
+#include <array>
+#include <utility>
 #include <cmath>
 
 #include "dsp/errors.hpp"
@@ -71,14 +73,84 @@ void LoMixKernel::reset() {
     phase_ = 0.0;
 }
 
+namespace {
+
+// The per-call constants of the kernel, splatted once.
+struct LoConsts {
+    vf m0, m1, m2, m3, dr, di, a3, one, sr, si;
+};
+
+// One group of kLanes samples (kRows vectors of W time lanes): LO by Horner's rule, nonlinearity, mix, IQ
+// imbalance, then the lane phasors step on by kLanes samples. KT > 0 is the harmonic count at compile time (the
+// Horner steps unroll, interleaved across the rows so that the rows' dependency chains overlap); KT == 0 takes the
+// count K at run time. Each Horner step is two fused multiply-adds per part: acc·p + g written as
+// ar·pr + (gr − ai·pi), ai·... so that the compiler contracts it without reassociating.
+template <std::size_t KT>
+inline void lo_group(const float* __restrict g, std::size_t K, const float* s, float* __restrict yr_out,
+                     float* __restrict yi_out, vf* __restrict pr, vf* __restrict pi, const LoConsts& c) {
+    const std::size_t k_count = KT > 0 ? KT : K;
+    vf ar[kRows], ai[kRows];
+    for (std::size_t r = 0; r < kRows; ++r) {
+        ar[r] = simd::splat(g[0]);
+        ai[r] = simd::splat(g[1]);
+    }
+    // Horner: acc = g_K; acc = acc·p + g_k (k = K−1 .. 1); L = acc·p.
+#pragma GCC unroll 16
+    for (std::size_t k = 1; k < k_count; ++k) {
+        const float gr = g[2 * k], gi = g[2 * k + 1];
+        for (std::size_t r = 0; r < kRows; ++r) {
+            const vf t = ar[r] * pr[r] + (gr - ai[r] * pi[r]);
+            ai[r] = ar[r] * pi[r] + (gi + ai[r] * pr[r]);
+            ar[r] = t;
+        }
+    }
+    for (std::size_t r = 0; r < kRows; ++r) {
+        const vf lr = ar[r] * pr[r] - ai[r] * pi[r], li = ar[r] * pi[r] + ai[r] * pr[r];
+        vf xr, xi;
+        simd::load_deinterleaved(s + 2 * r * W, xr, xi);
+        const vf k3 = c.one + c.a3 * (xr * xr + xi * xi);
+        const vf ur = xr * k3, ui = xi * k3;
+        const vf zr = ur * lr - ui * li, zi = ur * li + ui * lr;
+        simd::store(yr_out + r * W, c.m0 * zr + (c.m1 * zi + c.dr));
+        simd::store(yi_out + r * W, c.m2 * zr + (c.m3 * zi + c.di));
+        const vf t = pr[r] * c.sr - pi[r] * c.si;
+        pi[r] = pr[r] * c.si + pi[r] * c.sr;
+        pr[r] = t;
+    }
+}
+
+// The whole groups of one block (`groups` of them) for a compile-time harmonic count.
+template <std::size_t KT>
+void lo_groups(const float* g, std::size_t K, const float* src, std::size_t groups, float* o_r, float* o_i, vf* pr,
+               vf* pi, const LoConsts& c) {
+    vf lpr[kRows], lpi[kRows];  // in registers for the loop
+    for (std::size_t r = 0; r < kRows; ++r) lpr[r] = pr[r], lpi[r] = pi[r];
+    for (std::size_t b = 0; b < groups; ++b)
+        lo_group<KT>(g, K, src + 2 * b * kLanes, o_r + b * kLanes, o_i + b * kLanes, lpr, lpi, c);
+    for (std::size_t r = 0; r < kRows; ++r) pr[r] = lpr[r], pi[r] = lpi[r];
+}
+
+using GroupsFn = void (*)(const float*, std::size_t, const float*, std::size_t, float*, float*, vf*, vf*,
+                          const LoConsts&);
+constexpr std::size_t kMaxStaticK = 12;  // harmonic counts up to this unroll; more take the run-time loop
+
+template <std::size_t... I>
+constexpr std::array<GroupsFn, sizeof...(I)> groups_table(std::index_sequence<I...>) {
+    return {&lo_groups<I>...};  // index 0: the run-time count
+}
+constexpr auto kGroupsFns = groups_table(std::make_index_sequence<kMaxStaticK + 1>{});
+
+}  // namespace
+
 void LoMixKernel::process(const std::complex<float>* in, std::size_t n, float* out_re, float* out_im) {
     const std::size_t K = spec_.harmonic.size();
     const float* g = g_.data();
-    const vf m0 = simd::splat(m_[0]), m1 = simd::splat(m_[1]), m2 = simd::splat(m_[2]), m3 = simd::splat(m_[3]);
-    const vf dr = simd::splat(dc_[0]), di = simd::splat(dc_[1]);
-    const vf a3 = simd::splat(a3_), one = simd::splat(1.0f);
-    const vf sr = simd::splat(step_re_), si = simd::splat(step_im_);
-    const vf gkr = simd::splat(g[0]), gki = simd::splat(g[1]);
+    LoConsts c;
+    c.m0 = simd::splat(m_[0]), c.m1 = simd::splat(m_[1]), c.m2 = simd::splat(m_[2]), c.m3 = simd::splat(m_[3]);
+    c.dr = simd::splat(dc_[0]), c.di = simd::splat(dc_[1]);
+    c.a3 = simd::splat(a3_), c.one = simd::splat(1.0f);
+    c.sr = simd::splat(step_re_), c.si = simd::splat(step_im_);
+    const GroupsFn groups = kGroupsFns[K <= kMaxStaticK ? K : 0];
 
     for (std::size_t pos = 0; pos < n; pos += kBlock) {
         const std::size_t cnt = std::min(kBlock, n - pos);
@@ -97,35 +169,13 @@ void LoMixKernel::process(const std::complex<float>* in, std::size_t n, float* o
         const float* src = reinterpret_cast<const float*>(in + pos);
         float* o_r = out_re + pos;
         float* o_i = out_im + pos;
-        auto group = [&](const float* s, float* yr_out, float* yi_out) {
-            for (std::size_t r = 0; r < kRows; ++r) {
-                // Horner: acc = g_K; acc = acc·p + g_k (k = K−1 .. 1); L = acc·p.
-                vf ar = gkr, ai = gki;
-                for (std::size_t k = 1; k < K; ++k) {
-                    const vf t = ar * pr[r] - ai * pi[r] + g[2 * k];
-                    ai = ar * pi[r] + ai * pr[r] + g[2 * k + 1];
-                    ar = t;
-                }
-                const vf lr = ar * pr[r] - ai * pi[r], li = ar * pi[r] + ai * pr[r];
-                vf xr, xi;
-                simd::load_deinterleaved(s + 2 * r * W, xr, xi);
-                const vf k3 = one + a3 * (xr * xr + xi * xi);
-                const vf ur = xr * k3, ui = xi * k3;
-                const vf zr = ur * lr - ui * li, zi = ur * li + ui * lr;
-                simd::store(yr_out + r * W, m0 * zr + m1 * zi + dr);
-                simd::store(yi_out + r * W, m2 * zr + m3 * zi + di);
-                const vf t = pr[r] * sr - pi[r] * si;
-                pi[r] = pr[r] * si + pi[r] * sr;
-                pr[r] = t;
-            }
-        };
-        std::size_t b = 0;
-        for (; b + kLanes <= cnt; b += kLanes) group(src + 2 * b, o_r + b, o_i + b);
+        const std::size_t whole = cnt / kLanes, b = whole * kLanes;
+        groups(g, K, src, whole, o_r, o_i, pr, pi, c);
         if (b < cnt) {
             const std::size_t rest = cnt - b;
             std::fill(tail_in_.begin(), tail_in_.end(), 0.0f);
             std::copy(src + 2 * b, src + 2 * cnt, tail_in_.begin());
-            group(tail_in_.data(), tail_re_.data(), tail_im_.data());
+            lo_group<0>(g, K, tail_in_.data(), tail_re_.data(), tail_im_.data(), pr, pi, c);
             std::copy(tail_re_.begin(), tail_re_.begin() + static_cast<std::ptrdiff_t>(rest), o_r + b);
             std::copy(tail_im_.begin(), tail_im_.begin() + static_cast<std::ptrdiff_t>(rest), o_i + b);
         }
