@@ -40,6 +40,45 @@ void* operator new(std::size_t n, std::align_val_t a) {
     if (void* p = std::aligned_alloc(al, (n + al - 1) / al * al)) return p;
     throw std::bad_alloc();
 }
+// The rest of the family, so that every new/delete pair meets the same allocator: an array or nothrow form left
+// to the runtime would be freed here by std::free, which AddressSanitizer rightly reports as a mismatch.
+void* operator new[](std::size_t n, std::align_val_t a) {
+    return ::operator new(n, a);
+}
+void* operator new(std::size_t n, const std::nothrow_t&) noexcept {
+    ++g_allocs;
+    return std::malloc(n ? n : 1);
+}
+void* operator new[](std::size_t n, const std::nothrow_t&) noexcept {
+    ++g_allocs;
+    return std::malloc(n ? n : 1);
+}
+void* operator new(std::size_t n, std::align_val_t a, const std::nothrow_t&) noexcept {
+    ++g_allocs;
+    const std::size_t al = static_cast<std::size_t>(a);
+    return std::aligned_alloc(al, (n + al - 1) / al * al);
+}
+void* operator new[](std::size_t n, std::align_val_t a, const std::nothrow_t& t) noexcept {
+    return ::operator new(n, a, t);
+}
+void operator delete(void* p, const std::nothrow_t&) noexcept {
+    std::free(p);
+}
+void operator delete[](void* p, const std::nothrow_t&) noexcept {
+    std::free(p);
+}
+void operator delete[](void* p, std::align_val_t) noexcept {
+    std::free(p);
+}
+void operator delete[](void* p, std::size_t, std::align_val_t) noexcept {
+    std::free(p);
+}
+void operator delete(void* p, std::align_val_t, const std::nothrow_t&) noexcept {
+    std::free(p);
+}
+void operator delete[](void* p, std::align_val_t, const std::nothrow_t&) noexcept {
+    std::free(p);
+}
 void operator delete(void* p) noexcept {
     std::free(p);
 }
