@@ -2,8 +2,8 @@
 
 #include <algorithm>
 #include <array>
-#include <utility>
 #include <cmath>
+#include <utility>
 
 #include "dsp/errors.hpp"
 #include "dsp/simd.hpp"
