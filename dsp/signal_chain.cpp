@@ -55,7 +55,6 @@ struct Zone {
     std::vector<cf32> in, filt, out;  // max_block each
 };
 
-
 FilterModel default_loader(const FilterSpec& spec, const std::string& key, const std::optional<EnvelopeWindow>& w) {
     ModelOptions o;
     o.fir_window = w;
@@ -320,11 +319,12 @@ struct SignalChain::Impl {
         // The analyzer's calibration is a correction on top of the RF port's: dBm = dBFS + level_offset + cal.
         AnalyzerSpec a = setup.analyzer;
         a.calibration_db += layout.dbm_at_0dbfs;
-        if_welch = std::make_unique<Welch>(Welch::make(a, layout.if_output.center_hz, layout.if_output.sample_rate_hz));
+        if_welch = std::make_unique<Welch>(
+            Welch::make(a, layout.if_output.center_hz, layout.if_output.sample_rate_hz, opt.fft_effort));
         for (Zone& z : zones)
-            z.rf_welch = opt.rf_spectra
-                             ? std::make_unique<Welch>(Welch::make(a, z.window.center_hz, z.window.sample_rate_hz))
-                             : nullptr;
+            z.rf_welch = opt.rf_spectra ? std::make_unique<Welch>(Welch::make(a, z.window.center_hz,
+                                                                              z.window.sample_rate_hz, opt.fft_effort))
+                                        : nullptr;
         build_probe_welch();
     }
 
@@ -335,7 +335,7 @@ struct SignalChain::Impl {
             AnalyzerSpec a = setup.analyzer;
             a.calibration_db += layout.dbm_at_0dbfs;
             const EnvelopeWindow w = window_of(probe);
-            probe_welch = std::make_unique<Welch>(Welch::make(a, w.center_hz, w.sample_rate_hz));
+            probe_welch = std::make_unique<Welch>(Welch::make(a, w.center_hz, w.sample_rate_hz, opt.fft_effort));
         }
     }
 

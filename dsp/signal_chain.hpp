@@ -68,6 +68,9 @@ struct SignalChainOptions {
     std::size_t max_block = 16384;  // samples per internal block; process() takes any count
     Probe probe = Probe::if_output;
     bool rf_spectra = true;  // keep a spectrum of every RF window (needed for the image measurement)
+    // FFT planning of the analyzers (Welch::make): estimate keeps reports bit-identical run to run (verify, sweep);
+    // the live window takes measure for speed.
+    Fft::Effort fft_effort = Fft::Effort::estimate;
 };
 
 // Counters of the chain itself (sources keep their own).
@@ -81,12 +84,12 @@ struct SignalChainCounters {
 struct ChainLayout {
     std::vector<EnvelopeWindow> zones;  // RF windows; zones[0] is the first source's
     std::vector<int> zone_of_source;
-    EnvelopeWindow mixer_output;        // IF window at the RF rate
-    EnvelopeWindow if_output;           // after decimation
-    double lo_hz = 0.0;                 // the LO the emulator runs at (offset_ppm applied)
+    EnvelopeWindow mixer_output;  // IF window at the RF rate
+    EnvelopeWindow if_output;     // after decimation
+    double lo_hz = 0.0;           // the LO the emulator runs at (offset_ppm applied)
     double lo_nominal_hz = 0.0;
     Injection injection = Injection::high;  // effective side (from the LO when it is fixed)
-    double dbm_at_0dbfs = 0.0;          // RF port calibration (first source)
+    double dbm_at_0dbfs = 0.0;              // RF port calibration (first source)
 };
 
 // A two-tone intermodulation test (plan.two_tone_spacing_hz > 0): two equal tones f1 < f2 at the RF port, their
@@ -98,14 +101,14 @@ struct ChainLayout {
 struct TwoToneResult {
     bool active = false;
     double f1_hz = kNaN, f2_hz = kNaN;
-    double tone_rf_dbfs = kNaN;           // mean of the two tones at the RF port
-    double gain_db = kNaN;                // IF fundamental over RF tone (conversion gain, filters included)
-    double fundamental_if_dbfs = kNaN;    // mean of the two converted tones
+    double tone_rf_dbfs = kNaN;         // mean of the two tones at the RF port
+    double gain_db = kNaN;              // IF fundamental over RF tone (conversion gain, filters included)
+    double fundamental_if_dbfs = kNaN;  // mean of the two converted tones
     double im3_low_dbfs = kNaN, im3_high_dbfs = kNaN;  // 2f1−f2 and 2f2−f1 at the IF (or their upper bounds)
-    bool im3_bound = false;               // an IM3 product was below the floor: IIP3 is a lower bound
-    double im2_dbfs = kNaN;               // the f1+f2 product through the LO fundamental (or its upper bound)
+    bool im3_bound = false;                            // an IM3 product was below the floor: IIP3 is a lower bound
+    double im2_dbfs = kNaN;  // the f1+f2 product through the LO fundamental (or its upper bound)
     bool im2_bound = false;
-    bool im2_observable = false;          // the product lands inside the analysed span
+    bool im2_observable = false;               // the product lands inside the analysed span
     double iip3_dbfs = kNaN, iip3_dbm = kNaN;  // the worse of the two IM3 sides
     double iip2_dbfs = kNaN, iip2_dbm = kNaN;
     double iip3_limit_dbm = kNaN, iip2_limit_dbm = kNaN;
@@ -121,9 +124,9 @@ struct ChainAnalysis {
     double drive_dbfs = kNaN;         // the drive the predictions used (wanted − RF filter attenuation)
     std::vector<ExpectedLine> lines;  // every expected line in the IF output (wanted first)
     PlanCheck check;
-    ImageRejection image;             // not-observable when no signal sits in the image band
-    TwoToneResult two_tone;           // active in a two-tone test (then lines hold its products)
-    std::vector<std::string> notes;   // why something could not be measured
+    ImageRejection image;            // not-observable when no signal sits in the image band
+    TwoToneResult two_tone;          // active in a two-tone test (then lines hold its products)
+    std::vector<std::string> notes;  // why something could not be measured
 };
 
 class SignalChain {

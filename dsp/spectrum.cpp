@@ -64,7 +64,7 @@ double Spectrum::density_db_per_hz(double power_per_bin) const {
     return db_from_power(power_per_bin / rbw_hz) + unit_offset_db();
 }
 
-Welch Welch::make(const AnalyzerSpec& spec, double center_hz, double sample_rate_hz) {
+Welch Welch::make(const AnalyzerSpec& spec, double center_hz, double sample_rate_hz, Fft::Effort effort) {
     const int n = spec.fft_size;
     if (n < kMinFftSize || n > kMaxFftSize || (n & (n - 1)) != 0)
         throw InputError("analyzer.fft_size: got " + std::to_string(n) + ", expected a power of two from " +
@@ -108,7 +108,7 @@ Welch Welch::make(const AnalyzerSpec& spec, double center_hz, double sample_rate
     wl.acc_.assign(un, 0.0);
     wl.published_.assign(un, 0.0);
     // FFTW_MEASURE costs seconds above 64 k points; ESTIMATE there (platform-notes: 1.4–1.6× slower).
-    wl.fft_ = Fft(un, n <= 65536 ? Fft::Effort::measure : Fft::Effort::estimate);
+    wl.fft_ = Fft(un, n <= 65536 ? effort : Fft::Effort::estimate);
     wl.reset();
     return wl;
 }

@@ -54,7 +54,12 @@ class Welch {
   public:
     // Throws InputError naming the analyzer key for a size that is not a power of two in
     // kMinFftSize..kMaxFftSize, an overlap outside [0, 0.95], averages < 1, or a rate that is not positive.
-    static Welch make(const AnalyzerSpec& spec, double center_hz, double sample_rate_hz);
+    // `effort` plans the FFT. estimate (the default) gives the same plan in every process, so the same input gives
+    // bit-identical spectra run to run; measure lets FFTW time candidate algorithms (faster, but the choice, and
+    // with it the last bits of every bin, can change from one process to the next). Sizes above 65536 always
+    // estimate: measuring them costs seconds.
+    static Welch make(const AnalyzerSpec& spec, double center_hz, double sample_rate_hz,
+                      Fft::Effort effort = Fft::Effort::estimate);
 
     void push(std::span<const std::complex<float>> block);
     void reset();

@@ -61,7 +61,7 @@ ThroughputChain ThroughputChain::make(const ThroughputChainSpec& spec) {
     c.lo_.init(lo_spec(spec));
     const std::vector<double> h = throughput_fir_taps(spec.fir_taps, spec.decimation);
     c.fir_.init(std::vector<std::complex<double>>(h.begin(), h.end()), kBlock);
-    c.welch_ = std::make_unique<Welch>(Welch::make(spec.analyzer, 0.0, 1.0));
+    c.welch_ = std::make_unique<Welch>(Welch::make(spec.analyzer, 0.0, 1.0, Fft::Effort::measure));
     c.re_.assign(kBlock, 0.0f);
     c.im_.assign(kBlock, 0.0f);
     c.dec_.assign(kBlock / static_cast<std::size_t>(spec.decimation) + 1, {});

@@ -230,7 +230,7 @@ int run_bench(const Options& o) {
         }));
     }
     {
-        Welch w = Welch::make(spec.analyzer, 0.0, 1.0);
+        Welch w = Welch::make(spec.analyzer, 0.0, 1.0, Fft::Effort::measure);
         const std::size_t m = M / 8;
         stages.push_back(
             measure("welch", "Welch 4096 Blackman-Harris 50 % overlap (its own input samples/s)", R, m, [&] {

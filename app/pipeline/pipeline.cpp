@@ -209,6 +209,8 @@ struct Pipeline::Impl {
         for (const auto& l : ls) in.push_back({l->info.center_hz, l->info.sample_rate_hz, l->info.level_offset_db});
         SignalChainOptions co;
         co.probe = o.probe;
+        // A batch run writes reports that must be identical run to run; live frames may take the faster plans.
+        co.fft_effort = o.live ? Fft::Effort::measure : Fft::Effort::estimate;
         return SignalChain::make(s, in, co, filter_loader(s));
     }
 
