@@ -37,4 +37,10 @@ export TSAN_OPTIONS=${TSAN_OPTIONS:-halt_on_error=1:second_deadlock_stack=1}
 cmake -S . -B "$tsan" "${flags[@]}" -DHETBENCH_SANITIZE=thread -DHETBENCH_GUI=OFF
 cmake --build "$tsan" -j "$jobs" --target hetbench hetbench_gen "${tsan_targets[@]}"
 # gtest discovery runs at test time (PRE_TEST), so only the built executables are listed: -R picks their tests.
-(cd "$tsan" && ctest --output-on-failure -j "$jobs" --timeout 900 -R 'Pipeline|Ring|Recorder|RecordCommand|RecordFaults')
+# Excluded under TSan (it reports no race in them; they assert real-time behaviour that TSan's 5-20x slowdown breaks):
+#   Pipeline.LiveFramesSettingsAndProbe     a DSP load below 1 (as under ASan)
+#   Pipeline.RecordingTapAccountsForEverySample  a real-time generator read fast enough that its injected overflows
+#                                           fall inside the recording; under TSan the reader falls behind the clock
+tsan_exclude='^Pipeline\.LiveFramesSettingsAndProbe$|^Pipeline\.RecordingTapAccountsForEverySample$'
+(cd "$tsan" && ctest --output-on-failure -j "$jobs" --timeout 900 -R 'Pipeline|Ring|Recorder|RecordCommand|RecordFaults' \
+  -E "$tsan_exclude")
