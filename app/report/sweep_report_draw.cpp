@@ -1,7 +1,5 @@
 // The sweep report drawn: the HTML page (inline SVG, no scripts, no external files) and the PNG (drawn on the CPU
 // with stb_easy_font's segment glyphs, encoded by libstb).
-#include <stb_easy_font.h>
-#include <stb_image_write.h>
 
 #include <algorithm>
 #include <cmath>
@@ -9,6 +7,7 @@
 #include <sstream>
 
 #include "dsp/units.hpp"
+#include "report/canvas.hpp"
 #include "report/plot.hpp"
 #include "report/sweep_report.hpp"
 
@@ -143,93 +142,7 @@ dl.kv { display: grid; grid-template-columns: max-content 1fr; gap: 2px 16px; } 
 
 // ---- PNG ------------------------------------------------------------------------------------------------------
 
-struct Canvas {
-    int w, h;
-    std::vector<std::uint8_t> px;
-    Canvas(int w_, int h_, Rgb bg) : w(w_), h(h_), px(static_cast<std::size_t>(w_) * static_cast<std::size_t>(h_) * 3) {
-        for (std::size_t i = 0; i < px.size(); i += 3) {
-            px[i] = bg.r;
-            px[i + 1] = bg.g;
-            px[i + 2] = bg.b;
-        }
-    }
-    void set(int x, int y, Rgb c) {
-        if (x < 0 || y < 0 || x >= w || y >= h) return;
-        const std::size_t i =
-            (static_cast<std::size_t>(y) * static_cast<std::size_t>(w) + static_cast<std::size_t>(x)) * 3;
-        px[i] = c.r;
-        px[i + 1] = c.g;
-        px[i + 2] = c.b;
-    }
-    void rect(int x0, int y0, int x1, int y1, Rgb c) {
-        if (x0 > x1) std::swap(x0, x1);
-        if (y0 > y1) std::swap(y0, y1);
-        for (int y = std::max(y0, 0); y <= std::min(y1, h - 1); ++y)
-            for (int x = std::max(x0, 0); x <= std::min(x1, w - 1); ++x) set(x, y, c);
-    }
-    // A straight segment (Bresenham), optionally dashed every `dash` pixels.
-    void line(int x0, int y0, int x1, int y1, Rgb c, int dash = 0) {
-        const int dx = std::abs(x1 - x0), dy = -std::abs(y1 - y0);
-        const int sx = x0 < x1 ? 1 : -1, sy = y0 < y1 ? 1 : -1;
-        int err = dx + dy, k = 0;
-        for (;;) {
-            if (dash == 0 || (k / dash) % 2 == 0) set(x0, y0, c);
-            ++k;
-            if (x0 == x1 && y0 == y1) break;
-            const int e2 = 2 * err;
-            if (e2 >= dy) {
-                err += dy;
-                x0 += sx;
-            }
-            if (e2 <= dx) {
-                err += dx;
-                y0 += sy;
-            }
-        }
-    }
-};
-
-// stb_easy_font reads its glyph table at [ch − 32]: only printable ASCII may reach it.
-std::string ascii(std::string_view s) {
-    std::string out;
-    for (char ch : s) {
-        const auto c = static_cast<unsigned char>(ch);
-        if (c >= 32 && c < 127)
-            out += ch;
-        else if ((c & 0xC0) == 0xC0)
-            out += '?';  // the lead byte of a multi-byte character
-    }
-    return out;
-}
-
-int text_width(std::string_view t, int scale) {
-    std::string buf = ascii(t);
-    return stb_easy_font_width(buf.data()) * scale;
-}
-
-void text(Canvas& cv, int x, int y, std::string_view s, Rgb c, int scale) {
-    std::string t = ascii(s);
-    std::vector<char> vbuf(t.size() * 64 * 24 + 64);
-    const int quads = stb_easy_font_print(0, 0, t.data(), nullptr, vbuf.data(), static_cast<int>(vbuf.size()));
-    for (int q = 0; q < quads; ++q) {
-        float vx[4], vy[4];
-        for (int k = 0; k < 4; ++k) {
-            const char* v = vbuf.data() + (q * 4 + k) * 16;
-            std::memcpy(&vx[k], v, sizeof(float));
-            std::memcpy(&vy[k], v + 4, sizeof(float));
-        }
-        const float x0 = *std::min_element(vx, vx + 4), x1 = *std::max_element(vx, vx + 4);
-        const float y0 = *std::min_element(vy, vy + 4), y1 = *std::max_element(vy, vy + 4);
-        cv.rect(x + static_cast<int>(x0 * scale), y + static_cast<int>(y0 * scale),
-                x + static_cast<int>(x1 * scale) - 1, y + static_cast<int>(y1 * scale) - 1, c);
-    }
-}
-
-void write_to_vector(void* ctx, void* data, int size) {
-    auto* out = static_cast<std::vector<std::uint8_t>*>(ctx);
-    const auto* p = static_cast<const std::uint8_t*>(data);
-    out->insert(out->end(), p, p + size);
-}
+using namespace canvas;
 
 }  // namespace
 
@@ -396,9 +309,7 @@ std::vector<std::uint8_t> sweep_report_png(const SweepReport& r, int width, int 
     cv.line(left - 1, top - 1, left - 1, top + ph, plot::kInk);
     cv.line(left + pw, top - 1, left + pw, top + ph, plot::kInk);
 
-    std::vector<std::uint8_t> png;
-    stbi_write_png_to_func(write_to_vector, &png, width, height, 3, cv.px.data(), width * 3);
-    return png;
+    return canvas::png(cv);
 }
 
 }  // namespace hb
