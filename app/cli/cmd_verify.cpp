@@ -220,8 +220,17 @@ RunSummary run_one(Setup setup, const std::string& source_name, const std::strin
         int counts[4] = {0, 0, 0, 0};
         for (const LineResult& l : an.check.lines) ++counts[static_cast<int>(l.status)];
         std::cout << "  products " << counts[0] << " pass, " << counts[1] << " fail, " << counts[2]
-                  << " below the floor, " << counts[3] << " not observable; " << an.check.unexplained.size()
-                  << " unexplained peaks\n";
+                  << " below the floor, " << counts[3] << " not observable\n";
+        // Peaks no line of the wanted explains: most are other RF signals through their own responses.
+        std::size_t traced = 0, in_band = 0;
+        for (const UnexplainedPeak& u : an.check.unexplained)
+            if (!u.response.empty()) {
+                ++traced;
+                if (u.in_if_band) ++in_band;
+            }
+        std::cout << "  other    " << an.check.unexplained.size() << " peaks no line of the wanted explains: " << traced
+                  << " traced to another RF signal's response (" << in_band << " in the IF passband, judged), "
+                  << an.check.unexplained.size() - traced << " unexplained\n";
         for (const LineResult& l : an.check.lines)
             if (l.status == LineStatus::fail)
                 std::cout << "    fail: " << l.line.label << " at " << format_frequency(l.line.freq_hz) << " "
