@@ -7,18 +7,7 @@
 #include "dsp/units.hpp"
 
 namespace hb::plot {
-namespace {
-
-// A step of 1, 2 or 5 × 10^k giving about `target` intervals over `range`.
-double nice_step(double range, int target) {
-    const double raw = range / target;
-    const double p = std::pow(10.0, std::floor(std::log10(raw)));
-    for (double m : {1.0, 2.0, 5.0, 10.0})
-        if (m * p >= raw) return m * p;
-    return 10.0 * p;
-}
-
-}  // namespace
+namespace {}  // namespace
 
 std::string fixed(double v, int decimals) {
     if (!std::isfinite(v)) return "—";
@@ -131,25 +120,56 @@ Plot make_plot(const PlanReport& r, int columns) {
     for (double v = std::ceil(p.db_lo / ystep) * ystep; v <= p.db_hi + 1e-9; v += ystep)
         p.y_ticks.push_back({v, fixed(v, 0)});
 
-    // X ticks in the unit that suits the largest frequency shown.
-    const double fmax = std::max(std::abs(p.f_lo), std::abs(p.f_hi));
-    double scale = 1.0;
-    p.x_label = "Hz";
-    if (fmax >= 1e9) {
-        scale = 1e9;
-        p.x_label = "GHz";
-    } else if (fmax >= 1e6) {
-        scale = 1e6;
-        p.x_label = "MHz";
-    } else if (fmax >= 1e3) {
-        scale = 1e3;
-        p.x_label = "kHz";
-    }
-    const double xstep = nice_step(p.f_hi - p.f_lo, 8);
-    const int decimals = std::max(0, static_cast<int>(-std::floor(std::log10(xstep / scale) + 1e-9)));
-    for (double f = std::ceil(p.f_lo / xstep) * xstep; f < p.f_hi; f += xstep)
-        p.x_ticks.push_back({f, fixed(f / scale, decimals)});
+    p.x_ticks = frequency_ticks(p.f_lo, p.f_hi, false, p.x_label);
     return p;
 }
+
+double nice_step(double range, int target) {
+    const double raw = range / target;
+    const double p = std::pow(10.0, std::floor(std::log10(raw)));
+    for (double m : {1.0, 2.0, 5.0, 10.0})
+        if (m * p >= raw) return m * p;
+    return 10.0 * p;
+}
+
+std::vector<Tick> frequency_ticks(double f_lo, double f_hi, bool include_end, std::string& unit) {
+    const double fmax = std::max(std::abs(f_lo), std::abs(f_hi));
+    double scale = 1.0;
+    unit = "Hz";
+    if (fmax >= 1e9) {
+        scale = 1e9;
+        unit = "GHz";
+    } else if (fmax >= 1e6) {
+        scale = 1e6;
+        unit = "MHz";
+    } else if (fmax >= 1e3) {
+        scale = 1e3;
+        unit = "kHz";
+    }
+    const double xstep = nice_step(f_hi - f_lo, 8);
+    const int decimals = std::max(0, static_cast<int>(-std::floor(std::log10(xstep / scale) + 1e-9)));
+    const double end = include_end ? f_hi + 1e-9 * xstep : f_hi;
+    std::vector<Tick> ticks;
+    for (double f = std::ceil(f_lo / xstep) * xstep; include_end ? f <= end : f < end; f += xstep)
+        ticks.push_back({f, fixed(f / scale, decimals)});
+    return ticks;
+}
+
+const char* const kReportStyle = R"(
+body { font: 14px/1.45 system-ui, sans-serif; color: #222831; background: #fbfaf6; margin: 24px auto; max-width: 1060px; padding: 0 16px; }
+h1 { font-size: 22px; margin: 0 0 4px; } h2 { font-size: 16px; margin: 28px 0 8px; border-bottom: 1px solid #e2ded4; }
+.sub { color: #5a6270; margin: 0 0 12px; } .desc { white-space: pre-wrap; }
+.verdict { display: inline-block; padding: 2px 10px; border-radius: 3px; color: #fff; font-weight: 600; letter-spacing: .04em; }
+.verdict.pass { background: #2a7f62; } .verdict.fail { background: #c0392b; } .verdict.incomplete { background: #7a869a; }
+table { border-collapse: collapse; width: 100%; font-variant-numeric: tabular-nums; }
+th, td { text-align: left; padding: 3px 8px; border-bottom: 1px solid #ece8df; vertical-align: top; }
+th { font-weight: 600; background: #f1eee6; } td.num { text-align: right; white-space: nowrap; }
+td.st { font-weight: 600; } td.pass { color: #2a7f62; } td.fail { color: #c0392b; }
+td.below-floor, td.not-observable { color: #7a869a; }
+svg { width: 100%; height: auto; background: #fbfaf6; } svg text { font-size: 11px; fill: #222831; }
+dl.kv { display: grid; grid-template-columns: max-content 1fr; gap: 2px 16px; } dl.kv dt { color: #5a6270; }
+pre { background: #f1eee6; padding: 8px; overflow: auto; font-size: 12px; }
+.legend span { margin-right: 14px; } .sw { display: inline-block; width: 10px; height: 10px; margin-right: 4px; vertical-align: middle; }
+)";
 
 }  // namespace hb::plot

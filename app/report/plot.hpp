@@ -56,4 +56,13 @@ inline constexpr Rgb kPaper{251, 250, 246}, kInk{34, 40, 49}, kGrid{226, 222, 21
 // Level formatting shared by the writers: fixed decimals, "—" for non-finite.
 std::string fixed(double v, int decimals);
 
+// A step of 1, 2 or 5 × 10^k giving about `target` intervals over `range`.
+double nice_step(double range, int target);
+// Ticks of a frequency axis over f_lo..f_hi (Hz), labelled in the unit that suits the largest frequency shown
+// (Hz, kHz, MHz, GHz; its name goes to `unit`). `include_end`: a tick may sit on f_hi itself.
+std::vector<Tick> frequency_ticks(double f_lo, double f_hi, bool include_end, std::string& unit);
+
+// The stylesheet of the HTML reports (plan check and sweep).
+extern const char* const kReportStyle;
+
 }  // namespace hb::plot

@@ -70,15 +70,6 @@ std::string cell(double v, int decimals = 6) {
     return t == "-0" ? "0" : t;
 }
 
-// A step of 1, 2 or 5 × 10^k giving about `target` intervals over `range`.
-double nice_step(double range, int target) {
-    const double raw = range / target;
-    const double p = std::pow(10.0, std::floor(std::log10(raw)));
-    for (double m : {1.0, 2.0, 5.0, 10.0})
-        if (m * p >= raw) return m * p;
-    return 10.0 * p;
-}
-
 void write_bytes(const std::filesystem::path& p, const void* data, std::size_t size) {
     std::ofstream out(p, std::ios::binary | std::ios::trunc);
     out.write(static_cast<const char*>(data), static_cast<std::streamsize>(size));
@@ -225,27 +216,11 @@ Layout make_layout(const SweepReport& r) {
     }
     p.db_hi = std::min(300.0, 10.0 * std::ceil((hi + 20.0) / 10.0));
     p.db_lo = std::max(-100.0, 10.0 * std::floor((lo - 5.0) / 10.0));
-    const double ystep = nice_step(p.db_hi - p.db_lo, 8);
+    const double ystep = plot::nice_step(p.db_hi - p.db_lo, 8);
     for (double v = std::ceil(p.db_lo / ystep) * ystep; v <= p.db_hi + 1e-9; v += ystep)
         p.y_ticks.push_back({v, plot::fixed(v, 0)});
 
-    const double fmax = std::max(std::abs(p.f_lo), std::abs(p.f_hi));
-    double scale = 1.0;
-    p.x_label = "Hz";
-    if (fmax >= 1e9) {
-        scale = 1e9;
-        p.x_label = "GHz";
-    } else if (fmax >= 1e6) {
-        scale = 1e6;
-        p.x_label = "MHz";
-    } else if (fmax >= 1e3) {
-        scale = 1e3;
-        p.x_label = "kHz";
-    }
-    const double xstep = nice_step(p.f_hi - p.f_lo, 8);
-    const int decimals = std::max(0, static_cast<int>(-std::floor(std::log10(xstep / scale) + 1e-9)));
-    for (double f = std::ceil(p.f_lo / xstep) * xstep; f <= p.f_hi + 1e-9 * xstep; f += xstep)
-        p.x_ticks.push_back({f, plot::fixed(f / scale, decimals)});
+    p.x_ticks = plot::frequency_ticks(p.f_lo, p.f_hi, true, p.x_label);
     return p;
 }
 

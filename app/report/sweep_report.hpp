@@ -16,6 +16,7 @@
 #include "dsp/setup.hpp"
 #include "dsp/sweep.hpp"
 #include "report/plan_report.hpp"
+#include "report/plot.hpp"
 
 namespace hb {
 
@@ -53,10 +54,7 @@ struct Marker {
     bool labelled = false;  // the worst few, the image, the half-IF and the IF carry their label
     double limit_db = kNaN;
 };
-struct Tick {
-    double value;
-    std::string text;
-};
+using Tick = plot::Tick;
 struct Layout {
     double f_lo = 0.0, f_hi = 1.0, db_lo = 0.0, db_hi = 100.0;
     std::string x_label;  // "MHz"

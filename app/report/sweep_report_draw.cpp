@@ -124,22 +124,6 @@ std::string svg_plot(const Layout& p) {
     return o.str();
 }
 
-const char* kStyle = R"(
-body { font: 14px/1.45 system-ui, sans-serif; color: #222831; background: #fbfaf6; margin: 24px auto; max-width: 1060px; padding: 0 16px; }
-h1 { font-size: 22px; margin: 0 0 4px; } h2 { font-size: 16px; margin: 28px 0 8px; border-bottom: 1px solid #e2ded4; }
-.sub { color: #5a6270; margin: 0 0 12px; }
-.verdict { display: inline-block; padding: 2px 10px; border-radius: 3px; color: #fff; font-weight: 600; letter-spacing: .04em; }
-.verdict.pass { background: #2a7f62; } .verdict.fail { background: #c0392b; } .verdict.incomplete { background: #7a869a; }
-table { border-collapse: collapse; width: 100%; font-variant-numeric: tabular-nums; }
-th, td { text-align: left; padding: 3px 8px; border-bottom: 1px solid #ece8df; vertical-align: top; }
-th { font-weight: 600; background: #f1eee6; } td.num { text-align: right; white-space: nowrap; }
-td.st { font-weight: 600; } td.pass { color: #2a7f62; } td.fail { color: #c0392b; }
-td.below-floor, td.not-observable { color: #7a869a; }
-svg { width: 100%; height: auto; background: #fbfaf6; } svg text { font-size: 11px; fill: #222831; }
-dl.kv { display: grid; grid-template-columns: max-content 1fr; gap: 2px 16px; } dl.kv dt { color: #5a6270; }
-.legend span { margin-right: 14px; } .sw { display: inline-block; width: 10px; height: 10px; margin-right: 4px; vertical-align: middle; }
-)";
-
 // ---- PNG ------------------------------------------------------------------------------------------------------
 
 using namespace canvas;
@@ -152,7 +136,7 @@ std::string sweep_report_html(const SweepReport& r) {
     const std::string title = r.title.empty() ? "Spurious-response sweep" : r.title;
     std::ostringstream o;
     o << "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">\n<title>" << html_escape(title)
-      << " — hetbench sweep</title>\n<style>" << kStyle << "</style></head><body>\n";
+      << " — hetbench sweep</title>\n<style>" << plot::kReportStyle << "</style></head><body>\n";
     o << "<h1>" << html_escape(title) << " <span class=\"verdict " << v << "\">" << v << "</span></h1>\n";
     o << "<p class=\"sub\">hetbench " << HETBENCH_VERSION << " spurious-response sweep · session "
       << html_escape(r.session) << "</p>\n";
