@@ -17,7 +17,6 @@ flags=(-DCMAKE_BUILD_TYPE=RelWithDebInfo "-DCMAKE_CXX_FLAGS_RELWITHDEBINFO=-O1 -
 #   Pipeline.LiveFramesSettingsAndProbe  asserts a real-time DSP load below 1, which ASan's slowdown (about 2x) breaks
 asan_exclude='^SoapyRemote\.GeneratorOverLoopback$|^Pipeline\.LiveFramesSettingsAndProbe$'
 export ASAN_OPTIONS=${ASAN_OPTIONS:-detect_leaks=1:abort_on_error=1:detect_stack_use_after_return=0}
-export LSAN_OPTIONS=${LSAN_OPTIONS:-suppressions=$PWD/tests/lsan.supp:print_suppressions=0}
 export UBSAN_OPTIONS=${UBSAN_OPTIONS:-print_stacktrace=1:halt_on_error=1}
 echo "sanitize: AddressSanitizer + UndefinedBehaviorSanitizer ($asan)"
 cmake -S . -B "$asan" "${flags[@]}" -DHETBENCH_SANITIZE=address,undefined
