@@ -7,7 +7,6 @@
 #include "dsp/units.hpp"
 
 namespace hb::plot {
-namespace {}  // namespace
 
 std::string fixed(double v, int decimals) {
     if (!std::isfinite(v)) return "—";
