@@ -114,6 +114,53 @@ void fir_dot8(const float* __restrict gr, const float* __restrict gi, std::size_
     simd::reduce16(acc, out);
 }
 
+// Eight outputs y_k = Σ_{j<padded} g[j]·x[p0 + D·k + j] (k < 8) of one real planar stream, real taps in lanes,
+// when the decimation D divides the vector width W (R = W / D). Tap block b of output k reads the vector that
+// starts at p0 + D·(k + R·b): the eight outputs share the loads, a window of eight vectors slides by R per tap
+// block, and each block loads R new vectors instead of eight (for D = 8 on 16 lanes: 2 loads per 8 products
+// instead of 9, which had kept the plain form waiting on the loads). The eight lane sums are left in acc[0..7].
+template <std::size_t R>
+inline void fir_dot8_shared(const float* __restrict g, std::size_t blocks, const float* x, std::size_t D, vf* acc) {
+    vf win[8];
+    for (std::size_t k = 0; k < 8; ++k) {
+        win[k] = simd::load(x + D * k);
+        acc[k] = vf{};
+    }
+#pragma GCC unroll 16
+    for (std::size_t b = 0; b < blocks; ++b) {
+        const vf h = simd::load(g + b * W);
+        for (std::size_t k = 0; k < 8; ++k) acc[k] += h * win[k];
+        if (b + 1 == blocks) break;
+        for (std::size_t k = 0; k + R < 8; ++k) win[k] = win[k + R];
+        for (std::size_t k = R < 8 ? 8 - R : 0; k < 8; ++k) win[k] = simd::load(x + D * (k + R * (b + 1)));
+    }
+}
+
+// Both parts of eight outputs at p0, p0 + D, ... (D = W / R): out[0..7] re, out[8..15] im.
+template <std::size_t R>
+void fir_decim_shared(const float* g, std::size_t padded, const float* xr, const float* xi, std::size_t p0,
+                      float out[16]) {
+    const std::size_t D = W / R;
+    vf acc[16];
+    fir_dot8_shared<R>(g, padded / W, xr + p0, D, acc);
+    fir_dot8_shared<R>(g, padded / W, xi + p0, D, acc + 8);
+    simd::reduce16(acc, out);
+}
+
+using DecimSharedFn = void (*)(const float*, std::size_t, const float*, const float*, std::size_t, float*);
+
+// The shared-load form for decimation D, or null when D does not divide the vector width.
+DecimSharedFn decim_shared_for(std::size_t D) {
+    if (D < 2 || W % D != 0) return nullptr;
+    switch (W / D) {
+        case 1: return &fir_decim_shared<1>;
+        case 2: return &fir_decim_shared<2>;
+        case 4: return &fir_decim_shared<4>;
+        case 8: return &fir_decim_shared<8>;
+        default: return nullptr;
+    }
+}
+
 }  // namespace
 
 void deinterleave(const cf32* in, std::size_t n, float* re, float* im) {
@@ -331,7 +378,8 @@ void FirKernel::init(const std::vector<std::complex<double>>& h_in, std::size_t 
         hi[padded - 1 - k] = static_cast<float>(h[k].imag());
     }
     block = std::max<std::size_t>(max_block, 1);
-    const std::size_t len = padded - 1 + round_up(block, 64) + padded;  // slack: whole lane groups past the block
+    // slack: whole lane groups past the block, and the eight outputs of the shared-load decimator (7·D < 8·W)
+    const std::size_t len = padded - 1 + round_up(block, 64) + padded + 8 * W;
     xr.assign(len, 0.0f);
     xi.assign(len, 0.0f);
     yr.assign(round_up(block, kGroup), 0.0f);
@@ -373,7 +421,19 @@ std::size_t FirKernel::run(std::size_t n, cf32* out, int decimation, int& phase)
         const auto D = static_cast<std::size_t>(decimation);
         std::size_t first = phase == 0 ? 0 : D - static_cast<std::size_t>(phase);
         float* o = reinterpret_cast<float*>(out);
-        for (std::size_t i = first; i < n; i += 8 * D) {
+        const DecimSharedFn shared = real_taps ? decim_shared_for(D) : nullptr;
+        for (std::size_t i = first; shared && i < n; i += 8 * D) {
+            // Reads up to x[i + 7·D + padded − 1]: within the slack past the block (init).
+            alignas(64) float r[16];
+            shared(hr.data(), padded, xr.data(), xi.data(), i, r);
+            const std::size_t k_valid = std::min<std::size_t>(8, (n - i + D - 1) / D);
+            for (std::size_t k = 0; k < k_valid; ++k) {
+                o[2 * (produced + k)] = r[k];
+                o[2 * (produced + k) + 1] = r[8 + k];
+            }
+            produced += k_valid;
+        }
+        for (std::size_t i = first; !shared && i < n; i += 8 * D) {
             std::size_t p[8];
             std::size_t k_valid = 0;
             for (std::size_t k = 0; k < 8; ++k) {

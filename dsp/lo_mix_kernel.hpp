@@ -7,7 +7,8 @@
 //   y    = μ·z + η·z* + dc                                   IQ imbalance (gain g, phase φ) and a DC offset:
 //          μ = (1 + g·e^{−jφ})/2, η = (1 − g·e^{jφ})/2, i.e. I' = I, Q' = g·(Q·cos φ − I·sin φ)
 //
-// The harmonic sum is evaluated by Horner's rule in p (K complex multiply-adds a sample, one phasor). p comes from
+// The harmonic sum is evaluated by Clenshaw's recurrence in p for K <= 12 (one real-by-complex multiply-add per
+// harmonic, lo_mix_kernel.cpp) and by Horner's rule beyond (one complex multiply-add per harmonic). p comes from
 // a double-precision phase accumulator re-seeded every block of 2048 samples into time lanes (4 vectors: lane l
 // serves every (4W)-th sample) that step with a float phasor: a float recurrence alone drifts (platform notes);
 // over 2048 samples the lanes take 32–128 steps, below −100 dBc of error (tests/kernels_test.cpp).
@@ -47,7 +48,7 @@ struct LoMixKernel {
 
     // internal
     LoMixSpec spec_;
-    std::vector<float> g_;       // Horner coefficients g_K .. g_1 as re, im pairs
+    std::vector<float> g_;       // harmonic coefficients g_K .. g_1 as re, im pairs
     float m_[4] = {1, 0, 0, 1};  // y = [m0 m1; m2 m3]·(zr, zi) + dc
     float dc_[2] = {0, 0};
     float a3_ = 0.0f;
