@@ -75,7 +75,11 @@ struct FirKernel {
     std::size_t process_planar(const float* re, const float* im, std::size_t n, cf32* out, int decimation, int& phase);
     void reset();
 
-    // internal: filters the n samples already in (xr, xi) after the history
+    // For a kernel that writes planar samples itself: the slots of the next n <= max_block inputs (valid until
+    // the next call), then run(n, ...) filters them without a copy.
+    float* input_re() { return xr.data() + padded - 1; }
+    float* input_im() { return xi.data() + padded - 1; }
+    // Filters the n samples already in (xr, xi) after the history (the input slots above).
     std::size_t run(std::size_t n, cf32* out, int decimation, int& phase);
 };
 

@@ -62,8 +62,6 @@ ThroughputChain ThroughputChain::make(const ThroughputChainSpec& spec) {
     const std::vector<double> h = throughput_fir_taps(spec.fir_taps, spec.decimation);
     c.fir_.init(std::vector<std::complex<double>>(h.begin(), h.end()), kBlock);
     c.welch_ = std::make_unique<Welch>(Welch::make(spec.analyzer, 0.0, 1.0, Fft::Effort::measure));
-    c.re_.assign(kBlock, 0.0f);
-    c.im_.assign(kBlock, 0.0f);
     c.dec_.assign(kBlock / static_cast<std::size_t>(spec.decimation) + 1, {});
     return c;
 }
@@ -79,8 +77,8 @@ void ThroughputChain::reset() {
 void ThroughputChain::process(std::span<const std::complex<float>> in) {
     for (std::size_t pos = 0; pos < in.size(); pos += kBlock) {
         const std::size_t n = std::min(kBlock, in.size() - pos);
-        lo_.process(in.data() + pos, n, re_.data(), im_.data());
-        dec_count_ = fir_.process_planar(re_.data(), im_.data(), n, dec_.data(), spec_.decimation, phase_);
+        lo_.process(in.data() + pos, n, fir_.input_re(), fir_.input_im());  // straight into the FIR's input
+        dec_count_ = fir_.run(n, dec_.data(), spec_.decimation, phase_);
         welch_->push(std::span<const std::complex<float>>(dec_.data(), dec_count_));
     }
 }

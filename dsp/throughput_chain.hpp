@@ -64,7 +64,6 @@ class ThroughputChain {
     FirKernel fir_;
     int phase_ = 0;
     std::unique_ptr<Welch> welch_;
-    std::vector<float> re_, im_;
     std::vector<std::complex<float>> dec_;
     std::size_t dec_count_ = 0;
 };
