@@ -1,8 +1,10 @@
 #include "dsp/filter_kernels.hpp"
 
 #include <algorithm>
+#include <array>
 #include <cmath>
 #include <cstring>
+#include <utility>
 
 #include "dsp/simd.hpp"
 
@@ -119,8 +121,9 @@ void fir_dot8(const float* __restrict gr, const float* __restrict gi, std::size_
 // starts at p0 + D·(k + R·b): the eight outputs share the loads, a window of eight vectors slides by R per tap
 // block, and each block loads R new vectors instead of eight (for D = 8 on 16 lanes: 2 loads per 8 products
 // instead of 9, which had kept the plain form waiting on the loads). The eight lane sums are left in acc[0..7].
-template <std::size_t R>
-inline void fir_dot8_shared(const float* __restrict g, std::size_t blocks, const float* x, std::size_t D, vf* acc) {
+template <std::size_t R, std::size_t NB>
+inline void fir_dot8_shared(const float* __restrict g, std::size_t nb, const float* x, std::size_t D, vf* acc) {
+    const std::size_t blocks = NB > 0 ? NB : nb;
     vf win[8];
     for (std::size_t k = 0; k < 8; ++k) {
         win[k] = simd::load(x + D * k);
@@ -136,27 +139,74 @@ inline void fir_dot8_shared(const float* __restrict g, std::size_t blocks, const
     }
 }
 
-// Both parts of eight outputs at p0, p0 + D, ... (D = W / R): out[0..7] re, out[8..15] im.
-template <std::size_t R>
+// The same for symmetric (linear-phase) taps, g[j] = g[padded − 1 − j] with padded = 2·H·W: the folded form
+// y_k = Σ_{b<H} G_b·(X(D·k + W·b) + reversed X(padded − W + D·k − W·b)), X(a) the vector at x + a, one
+// multiply-add and one add per pair of taps instead of two multiply-adds (the adds take their own pipes). The
+// mirrored vectors slide the other way: a window of eight reversed vectors, R new ones per tap block.
+template <std::size_t R, std::size_t NB>
+inline void fir_dot8_folded(const float* __restrict g, std::size_t nb, std::size_t padded, const float* x,
+                            std::size_t D, vf* acc) {
+    const std::size_t half_blocks = NB > 0 ? NB : nb;
+    vf win[8], mir[8];
+    for (std::size_t k = 0; k < 8; ++k) {
+        win[k] = simd::load(x + D * k);
+        mir[k] = simd::reverse(simd::load(x + padded - W + D * k));
+        acc[k] = vf{};
+    }
+#pragma GCC unroll 4
+    for (std::size_t b = 0; b < half_blocks; ++b) {
+        const vf h = simd::load(g + b * W);
+        for (std::size_t k = 0; k < 8; ++k) acc[k] += h * (win[k] + mir[k]);
+        if (b + 1 == half_blocks) break;
+        for (std::size_t k = 0; k + R < 8; ++k) win[k] = win[k + R];
+        for (std::size_t k = R < 8 ? 8 - R : 0; k < 8; ++k) win[k] = simd::load(x + D * (k + R * (b + 1)));
+        for (std::size_t k = 7; k >= R && k < 8; --k) mir[k] = mir[k - R];
+        for (std::size_t k = 0; k < std::min<std::size_t>(R, 8); ++k)
+            mir[k] = simd::reverse(simd::load(x + padded - W + D * k - W * (b + 1)));
+    }
+}
+
+// Both parts of eight outputs at p0, p0 + D, ... (D = W / R), as eight complex values at out. NB > 0 is the number of
+// tap blocks (half of them when folded) at compile time, so that the windows slide by renaming registers.
+template <std::size_t R, bool Folded, std::size_t NB>
 void fir_decim_shared(const float* g, std::size_t padded, const float* xr, const float* xi, std::size_t p0,
                       float out[16]) {
     const std::size_t D = W / R;
-    vf acc[16];
-    fir_dot8_shared<R>(g, padded / W, xr + p0, D, acc);
-    fir_dot8_shared<R>(g, padded / W, xi + p0, D, acc + 8);
-    simd::reduce16(acc, out);
+    vf acc[8], folded[8];  // the real part's sums are folded once before the imaginary part's take the registers
+    for (int part = 0; part < 2; ++part) {
+        const float* x = (part == 0 ? xr : xi) + p0;
+        if constexpr (Folded)
+            fir_dot8_folded<R, NB>(g, padded / W / 2, padded, x, D, acc);
+        else
+            fir_dot8_shared<R, NB>(g, padded / W, x, D, acc);
+        simd::fold_level1(acc, folded + 4 * part);
+    }
+    simd::reduce16_folded_interleaved(folded, out);
 }
 
 using DecimSharedFn = void (*)(const float*, std::size_t, const float*, const float*, std::size_t, float*);
+constexpr std::size_t kMaxStaticBlocks = 8;
 
-// The shared-load form for decimation D, or null when D does not divide the vector width.
-DecimSharedFn decim_shared_for(std::size_t D) {
+template <std::size_t R, bool Folded, std::size_t... I>
+constexpr std::array<DecimSharedFn, sizeof...(I)> shared_table(std::index_sequence<I...>) {
+    return {&fir_decim_shared<R, Folded, I>...};  // index 0: the count at run time
+}
+template <std::size_t R, bool Folded>
+DecimSharedFn shared_for_blocks(std::size_t nb) {
+    static constexpr auto table = shared_table<R, Folded>(std::make_index_sequence<kMaxStaticBlocks + 1>{});
+    return table[nb <= kMaxStaticBlocks ? nb : 0];
+}
+
+// The shared-load form for decimation D (folded for symmetric taps) and `padded` taps, or null when D does not
+// divide the vector width.
+DecimSharedFn decim_shared_for(std::size_t D, bool folded, std::size_t padded) {
     if (D < 2 || W % D != 0) return nullptr;
+    const std::size_t nb = folded ? padded / W / 2 : padded / W;
     switch (W / D) {
-        case 1: return &fir_decim_shared<1>;
-        case 2: return &fir_decim_shared<2>;
-        case 4: return &fir_decim_shared<4>;
-        case 8: return &fir_decim_shared<8>;
+        case 1: return folded ? shared_for_blocks<1, true>(nb) : shared_for_blocks<1, false>(nb);
+        case 2: return folded ? shared_for_blocks<2, true>(nb) : shared_for_blocks<2, false>(nb);
+        case 4: return folded ? shared_for_blocks<4, true>(nb) : shared_for_blocks<4, false>(nb);
+        case 8: return folded ? shared_for_blocks<8, true>(nb) : shared_for_blocks<8, false>(nb);
         default: return nullptr;
     }
 }
@@ -371,6 +421,11 @@ void FirKernel::init(const std::vector<std::complex<double>>& h_in, std::size_t 
     taps = h.size();
     padded = round_up(taps, W);
     real_taps = std::all_of(h.begin(), h.end(), [](const std::complex<double>& c) { return c.imag() == 0.0; });
+    // Linear phase (h[k] = h[L−1−k]) over whole pairs of vector blocks, equal once rounded to float: a design's
+    // own rounding may leave the two halves a few parts in 10^16 apart, below the taps' float precision.
+    symmetric = real_taps && taps == padded && padded % (2 * W) == 0;
+    for (std::size_t k = 0; symmetric && k < taps / 2; ++k)
+        symmetric = static_cast<float>(h[k].real()) == static_cast<float>(h[taps - 1 - k].real());
     hr.assign(padded, 0.0f);
     hi.assign(padded, 0.0f);
     for (std::size_t k = 0; k < taps; ++k) {
@@ -421,16 +476,18 @@ std::size_t FirKernel::run(std::size_t n, cf32* out, int decimation, int& phase)
         const auto D = static_cast<std::size_t>(decimation);
         std::size_t first = phase == 0 ? 0 : D - static_cast<std::size_t>(phase);
         float* o = reinterpret_cast<float*>(out);
-        const DecimSharedFn shared = real_taps ? decim_shared_for(D) : nullptr;
+        const DecimSharedFn shared = real_taps ? decim_shared_for(D, symmetric, padded) : nullptr;
         for (std::size_t i = first; shared && i < n; i += 8 * D) {
             // Reads up to x[i + 7·D + padded − 1]: within the slack past the block (init).
+            if (i + 7 * D < n) {  // eight whole outputs: straight to out
+                shared(hr.data(), padded, xr.data(), xi.data(), i, o + 2 * produced);
+                produced += 8;
+                continue;
+            }
             alignas(64) float r[16];
             shared(hr.data(), padded, xr.data(), xi.data(), i, r);
-            const std::size_t k_valid = std::min<std::size_t>(8, (n - i + D - 1) / D);
-            for (std::size_t k = 0; k < k_valid; ++k) {
-                o[2 * (produced + k)] = r[k];
-                o[2 * (produced + k) + 1] = r[8 + k];
-            }
+            const std::size_t k_valid = (n - i + D - 1) / D;
+            std::copy(r, r + 2 * k_valid, o + 2 * produced);
             produced += k_valid;
         }
         for (std::size_t i = first; !shared && i < n; i += 8 * D) {

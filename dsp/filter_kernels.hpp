@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "dsp/filter_realise.hpp"
+#include "dsp/simd.hpp"
 
 namespace hb {
 
@@ -56,13 +57,16 @@ struct BiquadCascadeKernel {
 // part exactly 0, as for a filter centred on its window) take a path with half the arithmetic.
 //   decimation 1: outputs in vector lanes (each tap is one broadcast and one multiply-add per lane group: the
 //                 loads of the input are shared by all taps' products in registers)
-//   decimation > 1: taps in vector lanes, eight kept outputs at a time sharing the tap loads, tree reduction
+//   decimation > 1: taps in vector lanes, eight kept outputs at a time sharing the tap loads, tree reduction;
+//                   when the decimation divides the vector width the eight also share their input loads, and
+//                   symmetric taps are folded (one multiply-add per pair of taps)
 struct FirKernel {
     std::size_t taps = 0;       // real length
     std::size_t padded = 0;     // length rounded up to the vector width; the extra taps are zero
     bool real_taps = false;     // every Im h == 0
+    bool symmetric = false;     // real, h[k] == h[L − 1 − k] in float, L a multiple of 2W: folded decimator
     std::vector<float> hr, hi;  // taps reversed: hr[j] = Re h[padded - 1 - j]
-    std::vector<float> xr, xi;  // padded - 1 samples of history, then the current block (then slack)
+    simd::line_vector<float> xr, xi;  // padded - 1 samples of history, then the current block (then slack)
     std::vector<float> yr, yi;  // planar outputs of one call
     std::size_t block = 0;
 
