@@ -157,19 +157,26 @@ inline void lo_group(const float* __restrict g, std::size_t K, const float* s, f
     }
 }
 
-// The whole groups of one block (`groups` of them) for a compile-time harmonic count.
+// The whole groups of one block (`groups` of them) for a compile-time harmonic count. With `ahead` (the input
+// that follows, at least as long), each group also asks for the matching cache lines of it, so that the next
+// block arrives from memory while this one computes (the hardware prefetcher alone left the kernel waiting on
+// memory a third of the time: 900 against 1400 MS/s from cache, measured here).
 template <std::size_t KT>
-void lo_groups(const float* g, std::size_t K, const float* src, std::size_t groups, float* o_r, float* o_i, vf* pr,
-               vf* pi, const LoConsts& c) {
+void lo_groups(const float* g, std::size_t K, const float* src, const float* ahead, std::size_t groups, float* o_r,
+               float* o_i, vf* pr, vf* pi, const LoConsts& c) {
+    constexpr std::size_t kLine = 64 / sizeof(float);
     vf lpr[kRows], lpi[kRows];  // in registers for the loop
     for (std::size_t r = 0; r < kRows; ++r) lpr[r] = pr[r], lpi[r] = pi[r];
-    for (std::size_t b = 0; b < groups; ++b)
+    for (std::size_t b = 0; b < groups; ++b) {
+        if (ahead)
+            for (std::size_t l = 0; l < 2 * kLanes; l += kLine) __builtin_prefetch(ahead + 2 * b * kLanes + l, 0, 2);
         lo_group<KT>(g, K, src + 2 * b * kLanes, o_r + b * kLanes, o_i + b * kLanes, lpr, lpi, c);
+    }
     for (std::size_t r = 0; r < kRows; ++r) pr[r] = lpr[r], pi[r] = lpi[r];
 }
 
-using GroupsFn = void (*)(const float*, std::size_t, const float*, std::size_t, float*, float*, vf*, vf*,
-                          const LoConsts&);
+using GroupsFn = void (*)(const float*, std::size_t, const float*, const float*, std::size_t, float*, float*, vf*,
+                          vf*, const LoConsts&);
 constexpr std::size_t kMaxStaticK = 12;  // harmonic counts up to this unroll; more take the run-time loop
 
 template <std::size_t... I>
@@ -180,7 +187,8 @@ constexpr auto kGroupsFns = groups_table(std::make_index_sequence<kMaxStaticK + 
 
 }  // namespace
 
-void LoMixKernel::process(const std::complex<float>* in, std::size_t n, float* out_re, float* out_im) {
+void LoMixKernel::process(const std::complex<float>* in, std::size_t n, float* out_re, float* out_im,
+                          const std::complex<float>* next) {
     const std::size_t K = spec_.harmonic.size();
     const float* g = g_.data();
     LoConsts c;
@@ -208,7 +216,8 @@ void LoMixKernel::process(const std::complex<float>* in, std::size_t n, float* o
         float* o_r = out_re + pos;
         float* o_i = out_im + pos;
         const std::size_t whole = cnt / kLanes, b = whole * kLanes;
-        groups(g, K, src, whole, o_r, o_i, pr, pi, c);
+        const float* ahead = next ? reinterpret_cast<const float*>(next + pos) : nullptr;
+        groups(g, K, src, ahead, whole, o_r, o_i, pr, pi, c);
         if (b < cnt) {
             const std::size_t rest = cnt - b;
             std::fill(tail_in_.begin(), tail_in_.end(), 0.0f);

@@ -39,8 +39,10 @@ struct LoMixKernel {
 
     // Throws hb::InputError for an empty harmonic list or non-finite numbers.
     void init(const LoMixSpec& spec);
-    // y for n input samples (any n), planar out.
-    void process(const std::complex<float>* in, std::size_t n, float* out_re, float* out_im);
+    // y for n input samples (any n), planar out. `next`, when given, is the input the caller will pass next (at
+    // least n samples of it): the kernel prefetches it as it goes.
+    void process(const std::complex<float>* in, std::size_t n, float* out_re, float* out_im,
+                 const std::complex<float>* next = nullptr);
     void reset();
 
     // The LO phase ν·t (cycles, [0, 1)) of the next input sample, from the double accumulator.

@@ -77,7 +77,9 @@ void ThroughputChain::reset() {
 void ThroughputChain::process(std::span<const std::complex<float>> in) {
     for (std::size_t pos = 0; pos < in.size(); pos += kBlock) {
         const std::size_t n = std::min(kBlock, in.size() - pos);
-        lo_.process(in.data() + pos, n, fir_.input_re(), fir_.input_im());  // straight into the FIR's input
+        // Straight into the FIR's input; the next block (when whole) is prefetched as this one goes.
+        const std::complex<float>* next = pos + n + kBlock <= in.size() ? in.data() + pos + n : nullptr;
+        lo_.process(in.data() + pos, n, fir_.input_re(), fir_.input_im(), next);
         dec_count_ = fir_.run(n, dec_.data(), spec_.decimation, phase_);
         welch_->push(std::span<const std::complex<float>>(dec_.data(), dec_count_));
     }
