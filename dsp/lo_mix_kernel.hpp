@@ -7,8 +7,9 @@
 //   y    = μ·z + η·z* + dc                                   IQ imbalance (gain g, phase φ) and a DC offset:
 //          μ = (1 + g·e^{−jφ})/2, η = (1 − g·e^{jφ})/2, i.e. I' = I, Q' = g·(Q·cos φ − I·sin φ)
 //
-// The harmonic sum is evaluated by Clenshaw's recurrence in p for K <= 12 (one real-by-complex multiply-add per
-// harmonic, lo_mix_kernel.cpp) and by Horner's rule beyond (one complex multiply-add per harmonic). p comes from
+// The harmonic sum is evaluated by Clenshaw's recurrence in p for K <= 12 on targets with fused multiply-add (one
+// real-by-complex multiply-add per harmonic, lo_mix_kernel.cpp) and by Horner's rule otherwise (one complex
+// multiply-add per harmonic). p comes from
 // a double-precision phase accumulator re-seeded every block of 2048 samples into time lanes (4 vectors: lane l
 // serves every (4W)-th sample) that step with a float phasor: a float recurrence alone drifts (platform notes);
 // over 2048 samples the lanes take 32–128 steps, below −100 dBc of error (tests/kernels_test.cpp).

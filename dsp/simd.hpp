@@ -40,6 +40,13 @@ inline constexpr int kWidth = 8;
 inline constexpr int kWidth = 4;
 #endif
 
+// Whether a·b + c rounds once (FMA3: AVX2-class targets and up; the x86-64-v2 baseline rounds twice).
+#if defined(__FMA__)
+inline constexpr bool kFusedMultiplyAdd = true;
+#else
+inline constexpr bool kFusedMultiplyAdd = false;
+#endif
+
 typedef float vf __attribute__((vector_size(kWidth * sizeof(float))));
 typedef int vi __attribute__((vector_size(kWidth * sizeof(int))));
 

@@ -347,6 +347,8 @@ TEST(Kernels, LoHarmonicSumAtAnyFrequency) {
     //    Algorithms, 2nd ed. 2002, §3.7 on Clenshaw's recurrence, from memory), so about K²/2 roundings of
     //    Σ|g_k| against a peak near Σ|g_k|/2: 5e-5 of the peak for K = 12 (measured here: up to 3.0e-5; Horner's
     //    rule 4.8e-6).
+    // The portable build (no fused multiply-add: two roundings per step, Horner's rule throughout, 16 time lanes
+    // stepping 128 times a block) measured up to 1.3e-5 (switching) and 3.1e-5 (random): 2e-5 and 5e-5 there.
     const std::uint64_t q = 1000003;
     for (bool random : {false, true})
         for (std::uint64_t p : {431ull, 37101ull, 250001ull, 499000ull})
@@ -375,7 +377,8 @@ TEST(Kernels, LoHarmonicSumAtAnyFrequency) {
                                   std::polar(1.0, kTau * static_cast<double>(r) / static_cast<double>(q));
                     }
                 }
-                EXPECT_LE(worst_rel(y, ref), random ? 5e-5 : 5e-6)
+                const double tol = random ? 5e-5 : simd::kFusedMultiplyAdd ? 5e-6 : 2e-5;
+                EXPECT_LE(worst_rel(y, ref), tol)
                     << "nu " << s.lo_cycles << ", K " << K << (random ? ", random coefficients" : "");
             }
 }
