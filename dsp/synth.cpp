@@ -495,9 +495,12 @@ struct Synth::Impl {
         // White floor: complex Gaussian of variance sigma^2, |z| = sigma sqrt(-ln u1), arg = 2 pi u2
         // (Box & Muller, "A note on the generation of random normal deviates", Ann. Math. Stat. 29, 1958).
         // The 32-bit u1 limits |z| to 4.7 sigma (probability of exceeding it: 2^-32).
+        // Locals, not members, in the loop: the stores to re/im cannot then alias them, and it vectorises without
+        // a run-time alias check.
         const float sigma = floor_sigma;
+        const std::uint64_t key = floor_key, n0 = n;
         for (std::size_t i = 0; i < kSynthBlock; ++i) {
-            const std::uint64_t w = fm::random_word(floor_key, n + i);
+            const std::uint64_t w = fm::random_word(key, n0 + i);
             float c, s;
             fm::cos_sin_cycles(fm::uniform_low24(w), c, s);
             const float r = sigma * std::sqrt(-fm::log(fm::uniform_open0(w)));
