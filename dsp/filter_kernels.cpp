@@ -203,11 +203,16 @@ DecimSharedFn decim_shared_for(std::size_t D, bool folded, std::size_t padded) {
     if (D < 2 || W % D != 0) return nullptr;
     const std::size_t nb = folded ? padded / W / 2 : padded / W;
     switch (W / D) {
-        case 1: return folded ? shared_for_blocks<1, true>(nb) : shared_for_blocks<1, false>(nb);
-        case 2: return folded ? shared_for_blocks<2, true>(nb) : shared_for_blocks<2, false>(nb);
-        case 4: return folded ? shared_for_blocks<4, true>(nb) : shared_for_blocks<4, false>(nb);
-        case 8: return folded ? shared_for_blocks<8, true>(nb) : shared_for_blocks<8, false>(nb);
-        default: return nullptr;
+        case 1:
+            return folded ? shared_for_blocks<1, true>(nb) : shared_for_blocks<1, false>(nb);
+        case 2:
+            return folded ? shared_for_blocks<2, true>(nb) : shared_for_blocks<2, false>(nb);
+        case 4:
+            return folded ? shared_for_blocks<4, true>(nb) : shared_for_blocks<4, false>(nb);
+        case 8:
+            return folded ? shared_for_blocks<8, true>(nb) : shared_for_blocks<8, false>(nb);
+        default:
+            return nullptr;
     }
 }
 

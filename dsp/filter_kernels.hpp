@@ -61,13 +61,13 @@ struct BiquadCascadeKernel {
 //                   when the decimation divides the vector width the eight also share their input loads, and
 //                   symmetric taps are folded (one multiply-add per pair of taps)
 struct FirKernel {
-    std::size_t taps = 0;       // real length
-    std::size_t padded = 0;     // length rounded up to the vector width; the extra taps are zero
-    bool real_taps = false;     // every Im h == 0
-    bool symmetric = false;     // real, h[k] == h[L − 1 − k] in float, L a multiple of 2W: folded decimator
-    std::vector<float> hr, hi;  // taps reversed: hr[j] = Re h[padded - 1 - j]
+    std::size_t taps = 0;             // real length
+    std::size_t padded = 0;           // length rounded up to the vector width; the extra taps are zero
+    bool real_taps = false;           // every Im h == 0
+    bool symmetric = false;           // real, h[k] == h[L − 1 − k] in float, L a multiple of 2W: folded decimator
+    std::vector<float> hr, hi;        // taps reversed: hr[j] = Re h[padded - 1 - j]
     simd::line_vector<float> xr, xi;  // padded - 1 samples of history, then the current block (then slack)
-    std::vector<float> yr, yi;  // planar outputs of one call
+    std::vector<float> yr, yi;        // planar outputs of one call
     std::size_t block = 0;
 
     void init(const std::vector<std::complex<double>>& h, std::size_t max_block);

@@ -177,8 +177,8 @@ void lo_groups(const float* g, std::size_t K, const float* src, const float* ahe
     for (std::size_t r = 0; r < kRows; ++r) pr[r] = lpr[r], pi[r] = lpi[r];
 }
 
-using GroupsFn = void (*)(const float*, std::size_t, const float*, const float*, std::size_t, float*, float*, vf*,
-                          vf*, const LoConsts&);
+using GroupsFn = void (*)(const float*, std::size_t, const float*, const float*, std::size_t, float*, float*, vf*, vf*,
+                          const LoConsts&);
 constexpr std::size_t kMaxStaticK = 12;  // harmonic counts up to this unroll; more take the run-time loop
 
 template <std::size_t... I>
