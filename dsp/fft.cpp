@@ -2,6 +2,7 @@
 
 #include <fftw3.h>
 
+#include <cstdlib>
 #include <mutex>
 #include <new>
 #include <utility>
@@ -15,6 +16,39 @@ std::mutex& fftw_planner_mutex() {
         fftw_make_planner_thread_safe();
     });
     return m;
+}
+
+std::string fft_export_wisdom() {
+    std::lock_guard lock(fftw_planner_mutex());
+    char* text = fftwf_export_wisdom_to_string();
+    if (!text) return {};
+    std::string s(text);
+    std::free(text);  // allocated by FFTW with malloc (FFTW manual, "Wisdom Export")
+    return s;
+}
+
+bool fft_import_wisdom(const std::string& text) {
+    std::lock_guard lock(fftw_planner_mutex());
+    return fftwf_import_wisdom_from_string(text.c_str()) != 0;
+}
+
+bool fft_plan_in_wisdom(std::size_t n) {
+    std::lock_guard lock(fftw_planner_mutex());
+    fftwf_complex* in = fftwf_alloc_complex(n);
+    fftwf_complex* out = fftwf_alloc_complex(n);
+    fftwf_plan p = in && out
+                       ? fftwf_plan_dft_1d(static_cast<int>(n), in, out, FFTW_FORWARD, FFTW_MEASURE | FFTW_WISDOM_ONLY)
+                       : nullptr;
+    const bool found = p != nullptr;
+    if (p) fftwf_destroy_plan(p);
+    fftwf_free(in);
+    fftwf_free(out);
+    return found;
+}
+
+void fft_forget_wisdom() {
+    std::lock_guard lock(fftw_planner_mutex());
+    fftwf_forget_wisdom();
 }
 
 Fft::Fft(std::size_t n, Effort effort, Direction direction) : n_(n) {

@@ -5,8 +5,8 @@
 
 #include <complex>
 #include <cstddef>
-
 #include <mutex>
+#include <string>
 
 namespace hb {
 
@@ -16,6 +16,19 @@ namespace hb {
 // copies of this library linked into other modules of the same process (the generator device module).
 std::mutex& fftw_planner_mutex();
 
+// FFTW's wisdom (what FFTW_MEASURE found for each transform planned so far in this process, single precision),
+// as text, so that a later process plans the same sizes at once and with the same algorithm. The text is
+// machine-specific; the command line keeps it in a cache file (app/cli/fft_wisdom.hpp): dsp does no I/O.
+// Wisdom also steers FFTW_ESTIMATE plans of the same sizes, so a process that must give bit-identical reports
+// (verify, sweep) does not import it.
+std::string fft_export_wisdom();
+// Adds the wisdom in `text` to this process's; false (and nothing added) when it is not FFTW wisdom.
+bool fft_import_wisdom(const std::string& text);
+// Whether the wisdom holds a measured plan for a forward transform of n points (FFTW_WISDOM_ONLY).
+bool fft_plan_in_wisdom(std::size_t n);
+// Forgets all single-precision wisdom (for tests).
+void fft_forget_wisdom();
+
 class Fft {
   public:
     enum class Effort { estimate, measure };
@@ -23,8 +36,8 @@ class Fft {
 
     Fft() = default;  // empty: no plan, no buffers (assign a real one before execute)
     // Forward (e^{−j2πkn/N}) or inverse (unnormalised) transform of n points, out of place.
-    // `measure` times candidate algorithms once per size and process (FFTW_MEASURE, 1.4–1.6× faster here,
-    // platform-notes); `estimate` plans at once.
+    // `measure` times candidate algorithms once per size and process, or takes the choice from imported wisdom
+    // (FFTW_MEASURE, 1.4–1.6× faster here, platform-notes); `estimate` plans at once.
     Fft(std::size_t n, Effort effort, Direction direction = Direction::forward);
     ~Fft();
     Fft(const Fft&) = delete;

@@ -19,6 +19,7 @@
 #include <vector>
 
 #include "cli/commands.hpp"
+#include "cli/fft_wisdom.hpp"
 #include "dsp/errors.hpp"
 #include "dsp/filter_kernels.hpp"
 #include "dsp/lo.hpp"
@@ -188,6 +189,7 @@ struct Options {
 };
 
 int run_bench(const Options& o) {
+    const ScopedFftWisdom wisdom(std::cerr);  // the measured Welch plans, kept between runs
     const int R = o.runs;
     const std::size_t N = o.samples;
     const simd::line_vector<cf32> input = make_input(N);

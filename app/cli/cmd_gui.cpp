@@ -1,9 +1,11 @@
 // hetbench gui [SESSION] [--screenshot FILE --frames N] [--fps N] [--fps-report] [--state-dump FILE] [--size WxH]:
 // the bench window on a session (default: the bundled demo). See app/gui/window.cpp.
 #include <cstdio>
+#include <iostream>
 #include <memory>
 
 #include "cli/commands.hpp"
+#include "cli/fft_wisdom.hpp"
 #include "dsp/errors.hpp"
 #include "gui/gui.hpp"
 
@@ -38,6 +40,7 @@ void register_gui(CLI::App& app, int& rc) {
                     "(set HETBENCH_SOURCE_DIR to the project folder)");
         }
 #ifdef HETBENCH_HAS_GUI
+        const ScopedFftWisdom wisdom(std::cerr);  // the live analyzer's measured plans, kept between runs
         rc = gui::run_gui(*o);
 #else
         throw InputError("gui: this hetbench was built without the bench window (configure with -DHETBENCH_GUI=ON)");

@@ -13,6 +13,7 @@
 #include <thread>
 
 #include "cli/commands.hpp"
+#include "cli/fft_wisdom.hpp"
 #include "devices/session.hpp"
 #include "dsp/errors.hpp"
 #include "dsp/units.hpp"
@@ -41,6 +42,7 @@ struct SoakArgs {
 };
 
 void run_soak(const SoakArgs& a, int& rc) {
+    const ScopedFftWisdom wisdom(std::cerr);  // the analyzer's measured plan, kept between runs
     const Setup setup = load_session(a.session);
     if (!(a.seconds > 0) || !(a.interval > 0)) throw InputError("soak: --seconds and --interval must be above 0");
     g_stop.store(false);
