@@ -40,6 +40,24 @@ inline constexpr int kWidth = 8;
 inline constexpr int kWidth = 4;
 #endif
 
+// What the build targets, from the compiler's own macros (-march=native here has AVX-512; the portable x86-64-v2
+// build has SSE4.2 and no AVX): a name for people and a tag for file names.
+struct Target {
+    const char* name;
+    const char* tag;
+};
+#if defined(__AVX512F__)
+inline constexpr Target kTarget{"AVX-512", "avx512"};
+#elif defined(__AVX2__)
+inline constexpr Target kTarget{"AVX2", "avx2"};
+#elif defined(__AVX__)
+inline constexpr Target kTarget{"AVX", "avx"};
+#elif defined(__SSE4_2__)
+inline constexpr Target kTarget{"SSE4.2 (x86-64-v2)", "x86-64-v2"};
+#else
+inline constexpr Target kTarget{"baseline", "baseline"};
+#endif
+
 // Whether a·b + c rounds once (FMA3: AVX2-class targets and up; the x86-64-v2 baseline rounds twice).
 #if defined(__FMA__)
 inline constexpr bool kFusedMultiplyAdd = true;

@@ -155,22 +155,6 @@ std::string find_python() {
     return {};
 }
 
-// What the build targets, from the compiler's own macros (-march=native here has AVX-512; the portable x86-64-v2
-// build has SSE4.2 and no AVX).
-const char* target_name() {
-#if defined(__AVX512F__)
-    return "AVX-512";
-#elif defined(__AVX2__)
-    return "AVX2";
-#elif defined(__AVX__)
-    return "AVX";
-#elif defined(__SSE4_2__)
-    return "SSE4.2 (x86-64-v2)";
-#else
-    return "baseline";
-#endif
-}
-
 nlohmann::json num(double v) {
     return std::isfinite(v) ? nlohmann::json(v) : nlohmann::json(nullptr);
 }
@@ -357,7 +341,7 @@ int run_bench(const Options& o) {
     if (o.json) {
         nlohmann::json j;
         j["schema"] = "hetbench.bench/1";
-        j["build"] = {{"simd_width_floats", simd::kWidth}, {"target", target_name()}, {"compiler", __VERSION__}};
+        j["build"] = {{"simd_width_floats", simd::kWidth}, {"target", simd::kTarget.name}, {"compiler", __VERSION__}};
         j["runs"] = R;
         j["samples"] = N;
         j["reference_samples"] = RN;
@@ -392,7 +376,7 @@ int run_bench(const Options& o) {
         t << line;
     };
     t << "hetbench bench: Msamples/s of complex-float input, one core, median of " << R << " runs (min .. max)\n";
-    t << "Target " << target_name() << ", SIMD width " << simd::kWidth << " floats; input " << N
+    t << "Target " << simd::kTarget.name << ", SIMD width " << simd::kWidth << " floats; input " << N
       << " samples from memory\n\n";
     t << "Stages of the default chain\n";
     for (const Figure& f : stages) row(f);

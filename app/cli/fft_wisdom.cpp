@@ -10,24 +10,9 @@
 #include <system_error>
 
 #include "dsp/fft.hpp"
+#include "dsp/simd.hpp"
 
 namespace hb::cli {
-namespace {
-
-// The build target, so that an AVX-512 build and the portable build keep separate wisdom.
-const char* target_tag() {
-#if defined(__AVX512F__)
-    return "avx512";
-#elif defined(__AVX2__)
-    return "avx2";
-#elif defined(__AVX__)
-    return "avx";
-#else
-    return "x86-64-v2";
-#endif
-}
-
-}  // namespace
 
 std::string fft_wisdom_path() {
     if (const char* p = std::getenv("HETBENCH_FFTW_WISDOM"); p && *p) return std::string(p) == "off" ? "" : p;
@@ -38,7 +23,7 @@ std::string fft_wisdom_path() {
         dir = std::filesystem::path(h) / ".cache";
     else
         return "";
-    return (dir / "hetbench" / (std::string("fftw-wisdom-") + target_tag() + ".txt")).string();
+    return (dir / "hetbench" / (std::string("fftw-wisdom-") + simd::kTarget.tag + ".txt")).string();
 }
 
 bool load_fft_wisdom(const std::string& path, std::ostream& note) {
