@@ -270,10 +270,13 @@ TEST(Pipeline, RecordingTapAccountsForEverySample) {
     RecorderOptions ro;
     ro.out = d.file("tap").string();
     ro.flush_interval_s = 0.1;
+    // Overflows before the recording starts (while the pipeline settles) are not the recording's gaps: wait for
+    // three more after it.
+    const auto before = p->status().overflows;
     p->start_recording(ro);
     EXPECT_TRUE(p->recording());
     EXPECT_THROW(p->start_recording(ro), InputError);
-    ASSERT_TRUE(eventually([&] { return p->status().overflows >= 3; }))
+    ASSERT_TRUE(eventually([&] { return p->status().overflows >= before + 3; }))
         << p->status().state << ", in " << p->status().samples_in << ", overflows " << p->status().overflows
         << ", timeouts " << p->status().timeouts;
     const auto r = p->stop_recording();
@@ -281,7 +284,10 @@ TEST(Pipeline, RecordingTapAccountsForEverySample) {
     EXPECT_FALSE(p->recording());
     EXPECT_TRUE(r->complete) << r->message;
     EXPECT_EQ(r->written + r->overflow_lost + r->dropped, r->produced);
-    EXPECT_GE(r->gaps, 2u);
+    // Three overflows make three gaps, unless the recorder thread was starved (a loaded machine: seen with a
+    // parallel build running) and its ring filled: the blocks lost to it then merge with the next overflow into
+    // one gap, still accounted for above. At least one gap either way.
+    EXPECT_GE(r->gaps, 1u);
     EXPECT_GT(r->written, 100000u);
     // The files read back: as many samples as the report says were written, the session embedded.
     SourceSpec spec;
