@@ -191,18 +191,12 @@ inline void reduce16(vf v[16], float out[16]) {
 
 // reduce16 in two steps, so that a kernel can fold one half of its sixteen sums before it computes the other
 // (and free their registers): fold_level1 folds eight vectors into four (the first level of the tree); then
-// reduce16_folded takes the eight folded vectors (both halves, in order) to the sixteen sums.
+// reduce16_folded_interleaved takes the eight folded vectors (both halves, in order) to the sixteen sums, written
+// as eight complex values: out[2k] = sum k, out[2k + 1] = sum 8 + k (the real parts of eight outputs, then their
+// imaginary parts).
 inline void fold_level1(const vf v[8], vf out[4]) {
     for (int i = 0; i < 4; ++i) out[i] = fold<kWidth>(v[2 * i], v[2 * i + 1]);
 }
-inline void reduce16_folded(vf v[8], float out[16]) {
-    detail::fold_tree<kWidth / 2, 8>(v);
-    constexpr int vecs = kWidth >= 16 ? 1 : 16 / kWidth;
-    for (int q = 0; q < vecs; ++q) store(out + q * kWidth, v[q]);
-}
-
-// reduce16_folded's sixteen sums written as eight complex values: out[2k] = sum k, out[2k + 1] = sum 8 + k (the
-// real parts of eight outputs, then their imaginary parts).
 inline void reduce16_folded_interleaved(vf v[8], float out[16]) {
     detail::fold_tree<kWidth / 2, 8>(v);
     if constexpr (kWidth >= 16) {
